@@ -1,0 +1,101 @@
+"""Frozen result types returned by the numerical core."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from fractions import Fraction
+from typing import Literal
+
+Method = Literal["exact", "asymptotic"]
+
+
+@dataclass(frozen=True, slots=True)
+class Magnitude:
+    """A non-negative real number reported three ways.
+
+    :ivar value: nearest float64; may be ``0.0`` (underflow) or ``inf`` (overflow).
+    :ivar decimal: scientific text with 20 significant digits, never underflows,
+        or ``"0"`` for an exact zero.
+    :ivar log10: base-10 logarithm, ``None`` when the number is exactly zero.
+    """
+
+    value: float
+    decimal: str
+    log10: float | None
+
+
+@dataclass(frozen=True, slots=True)
+class CollisionRisk:
+    """Risk that at least two of ``count`` uniform draws from ``size`` values coincide.
+
+    :ivar collision: P(some two identifiers are equal).
+    :ivar no_collision: its complement, with its own full relative accuracy.
+    :ivar method: ``"exact"`` (rational arithmetic) or ``"asymptotic"``.
+    :ivar relative_error_bound: bound on the relative error of both
+        ``decimal`` texts; ``0.0`` on the exact path, where the texts are
+        correctly rounded. The float ``value`` adds at most 2**-53 on top.
+    :ivar exact: the risk as a reduced fraction when numerator and denominator
+        have at most 1,000 digits each (exact path only), else ``None``.
+    :ivar precision_bits: binary working precision of the asymptotic path
+        (``0`` on the exact path).
+    """
+
+    size: int
+    count: int
+    collision: Magnitude
+    no_collision: Magnitude
+    method: Method
+    relative_error_bound: float
+    exact: Fraction | None
+    precision_bits: int
+
+
+@dataclass(frozen=True, slots=True)
+class RelatedFigures:
+    """Expected values that accompany a collision risk.
+
+    :ivar expected_colliding_pairs: C(n, 2) / N, exact then rounded.
+    :ivar expected_distinct: N * (1 - (1 - 1/N)**n).
+    :ivar expected_duplicates: n minus the expected number of distinct values.
+    :ivar one_in: 1 / risk ("one in X"), ``None`` when the risk is zero.
+    :ivar entropy_bits: log2 N.
+    """
+
+    expected_colliding_pairs: Magnitude
+    expected_distinct: Magnitude
+    expected_duplicates: Magnitude
+    one_in: Magnitude | None
+    entropy_bits: float
+
+
+@dataclass(frozen=True, slots=True)
+class LengthAnswer:
+    """Shortest identifier length over an alphabet that keeps the risk in budget.
+
+    :ivar length: the shortest length L with risk(count, m**L) <= max_risk.
+    :ivar at_length: the risk at ``length``.
+    :ivar one_shorter: the risk at ``length - 1`` (``None`` when length is 1).
+    """
+
+    alphabet_size: int
+    count: int
+    max_risk: Fraction
+    length: int
+    at_length: CollisionRisk
+    one_shorter: CollisionRisk | None
+
+
+@dataclass(frozen=True, slots=True)
+class CapacityAnswer:
+    """Largest number of identifiers a space takes with the risk in budget.
+
+    :ivar count: the largest n with risk(n, size) <= max_risk.
+    :ivar at_count: the risk at ``count``.
+    :ivar one_more: the risk at ``count + 1``.
+    """
+
+    size: int
+    max_risk: Fraction
+    count: int
+    at_count: CollisionRisk
+    one_more: CollisionRisk
