@@ -1,0 +1,139 @@
+"""Identifier spaces: how many distinct values an identifier can take, and why."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from urnbound.core.errors import DomainError
+from urnbound.core.limits import MAX_SIZE_BITS
+from urnbound.domain.alphabets import Alphabet
+
+#: Sizes with more digits than this are described in scientific notation.
+_PLAIN_DIGITS = 30
+
+
+def log2_of(value: int) -> float:
+    """Return log2 of a positive integer of any size, accurate to a few units in the last place.
+
+    Only the top 64 bits take part in the floating-point step, so huge integers never
+    overflow a float; powers of two come out exact.
+
+    >>> log2_of(2**8192)
+    8192.0
+    >>> round(log2_of(10**600), 6)
+    1993.156857
+    """
+    if value < 1:
+        raise ValueError("log2 needs a positive integer")
+    shift = max(0, value.bit_length() - 64)
+    return math.log2(value >> shift) + shift
+
+
+@dataclass(frozen=True, slots=True)
+class IdSpace:
+    """A set of ``size`` equally likely identifier values.
+
+    :ivar size: number of distinct values, exact.
+    :ivar description: a short phrase saying how the space was given.
+    :ivar alphabet_size: symbols per position, when the space is an alphabet and length.
+    :ivar length: number of positions, when the space is an alphabet and length.
+    """
+
+    size: int
+    description: str
+    alphabet_size: int | None = None
+    length: int | None = None
+
+    def __post_init__(self) -> None:
+        if self.size < 1:
+            raise ValueError("an identifier space has at least one value")
+
+    @property
+    def bits(self) -> float:
+        """log2 of the size: the entropy of one uniformly drawn identifier, in bits."""
+        return log2_of(self.size)
+
+
+def _values_text(size: int) -> str:
+    text = str(size)
+    if len(text) <= _PLAIN_DIGITS:
+        return f"{text} values"
+    if size & (size - 1) == 0:
+        return f"2^{size.bit_length() - 1} values"
+    return f"about {text[0]}.{text[1:6]}e{len(text) - 1} values ({len(text)} digits)"
+
+
+def space_from_bits(bits: int) -> IdSpace:
+    """Return the space of ``bits`` uniformly random bits (2**bits values).
+
+    :raises DomainError: (field ``bits``) unless 1 <= bits <= 8192.
+
+    >>> space_from_bits(64).description
+    '2^64 values (64 random bits)'
+    """
+    if isinstance(bits, bool) or not 1 <= bits <= MAX_SIZE_BITS:
+        raise DomainError(f"bits must be a whole number from 1 to {MAX_SIZE_BITS}", field="bits")
+    unit = "bit" if bits == 1 else "bits"
+    return IdSpace(2**bits, f"2^{bits} values ({bits} random {unit})", 2, bits)
+
+
+def longest_length(alphabet_size: int, max_size_bits: int = MAX_SIZE_BITS) -> int:
+    """Return the largest L with alphabet_size**L <= 2**max_size_bits.
+
+    >>> longest_length(64), longest_length(2), longest_length(10)
+    (1365, 8192, 2466)
+    """
+    if alphabet_size < 2:
+        raise ValueError("an alphabet has at least two symbols")
+    limit = 2**max_size_bits
+    guess = int(max_size_bits / log2_of(alphabet_size))
+    # The float guess is off by at most one either way; settle it exactly.
+    while alphabet_size**guess > limit:
+        guess -= 1
+    while alphabet_size ** (guess + 1) <= limit:
+        guess += 1
+    return guess
+
+
+def _alphabet_label(alphabet: Alphabet) -> str:
+    return f"{alphabet.name} alphabet ({alphabet.size} symbols)"
+
+
+def space_from_alphabet(alphabet: Alphabet, length: int) -> IdSpace:
+    """Return the space of identifiers of ``length`` symbols from ``alphabet``.
+
+    :raises DomainError: (field ``length``) unless 1 <= length and the space holds at
+        most 2**8192 values; the detail gives the longest allowed length.
+
+    >>> from urnbound.domain.alphabets import named_alphabet
+    >>> space_from_alphabet(named_alphabet("base64url"), 22).description
+    'base64url alphabet (64 symbols), length 22'
+    """
+    longest = longest_length(alphabet.size)
+    if isinstance(length, bool) or not 1 <= length <= longest:
+        raise DomainError(
+            f"length must be a whole number from 1 to {longest} for the "
+            f"{_alphabet_label(alphabet)}, so that the space holds at most "
+            f"2^{MAX_SIZE_BITS} values",
+            field="length",
+        )
+    return IdSpace(
+        alphabet.size**length,
+        f"{_alphabet_label(alphabet)}, length {length}",
+        alphabet.size,
+        length,
+    )
+
+
+def space_from_size(size: int) -> IdSpace:
+    """Return a space of ``size`` values given directly.
+
+    :raises DomainError: (field ``size``) unless 2 <= size <= 2**8192.
+
+    >>> space_from_size(1_000_000).description
+    '1000000 values'
+    """
+    if isinstance(size, bool) or not 2 <= size <= 2**MAX_SIZE_BITS:
+        raise DomainError(f"size must be a whole number from 2 to 2^{MAX_SIZE_BITS}", field="size")
+    return IdSpace(size, _values_text(size))
