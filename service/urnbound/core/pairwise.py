@@ -1,0 +1,138 @@
+"""Pairwise collision risk (the birthday bound) and its related figures, by either path."""
+
+from __future__ import annotations
+
+from fractions import Fraction
+
+from mpmath import libmp
+
+from urnbound.core import precision as mp
+from urnbound.core.asymptotic import risk_estimate
+from urnbound.core.errors import DomainError
+from urnbound.core.exact import digits_estimate, exact_risk, magnitude_of_fraction
+from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, MAX_FRACTION_DIGITS, MAX_SIZE_BITS
+from urnbound.core.precision import Real
+from urnbound.core.regimes import choose_method
+from urnbound.core.results import CollisionRisk, Magnitude, RelatedFigures
+
+#: Working precision of the expected-value figures (their cancellation is handled below).
+FIGURES_PREC = 96
+
+
+def collision_risk(
+    size: int,
+    count: int,
+    *,
+    exact_digit_limit: int = DEFAULT_EXACT_DIGIT_LIMIT,
+    target_bits: int = 64,
+) -> CollisionRisk:
+    """Risk that at least two of ``count`` uniform draws from ``size`` values coincide.
+
+    :param size: N, the number of equally likely values, 1 <= N <= 2**8192.
+    :param count: n >= 0; n > N gives risk exactly 1.
+    :param exact_digit_limit: largest estimated digit count of N**n taken exactly.
+    :param target_bits: relative accuracy asked of the asymptotic path.
+    :raises DomainError: for a size or count outside those ranges.
+
+    >>> r = collision_risk(365, 23)
+    >>> r.method, r.collision.decimal
+    ('exact', '5.0729723432398540723e-1')
+    """
+    _check_question(size, count)
+    if choose_method(size, count, exact_digit_limit) == "exact":
+        return _exact_answer(size, count)
+    return _asymptotic_answer(size, count, target_bits)
+
+
+def _check_question(size: int, count: int) -> None:
+    too_big = size.bit_length() > MAX_SIZE_BITS + 1 or (
+        size.bit_length() == MAX_SIZE_BITS + 1 and size & (size - 1) != 0)
+    if size < 1 or too_big:
+        raise DomainError(f"size must be a whole number from 1 to 2^{MAX_SIZE_BITS}",
+                          field="size")
+    if count < 0:
+        raise DomainError("count must be a whole number of at least 0", field="count")
+
+
+def _exact_answer(size: int, count: int) -> CollisionRisk:
+    risk = exact_risk(size, count)
+    fraction = None
+    if max(digits_estimate(risk.denominator), 1) <= MAX_FRACTION_DIGITS + 1:
+        if len(str(risk.denominator)) <= MAX_FRACTION_DIGITS:
+            fraction = Fraction(risk.collision, risk.denominator)
+    return CollisionRisk(
+        size=size,
+        count=count,
+        collision=magnitude_of_fraction(risk.collision, risk.denominator),
+        no_collision=magnitude_of_fraction(risk.no_collision, risk.denominator),
+        method="exact",
+        relative_error_bound=0.0,
+        exact=fraction,
+        precision_bits=0,
+    )
+
+
+def _asymptotic_answer(size: int, count: int, target_bits: int) -> CollisionRisk:
+    estimate = risk_estimate(size, count, target_bits)
+    bound = max(mp.to_float(estimate.collision_error), mp.to_float(estimate.no_collision_error))
+    return CollisionRisk(
+        size=size,
+        count=count,
+        collision=mp.magnitude_of_real(estimate.collision),
+        no_collision=mp.magnitude_of_log(estimate.no_collision, estimate.log_no_collision,
+                                         estimate.prec),
+        method="asymptotic",
+        relative_error_bound=bound + mp.DECIMAL_ROUNDING,
+        exact=None,
+        precision_bits=estimate.prec,
+    )
+
+
+def related_figures(size: int, count: int, risk: CollisionRisk) -> RelatedFigures:
+    """Expected colliding pairs, distinct values and duplicates; odds; entropy.
+
+    >>> f = related_figures(365, 23, collision_risk(365, 23))
+    >>> f.expected_colliding_pairs.decimal, round(f.expected_duplicates.value, 6)
+    ('6.9315068493150684932e-1', 0.680038)
+    """
+    distinct, duplicates = _expected_distinct_and_duplicates(size, count)
+    return RelatedFigures(
+        expected_colliding_pairs=magnitude_of_fraction(count * (count - 1), 2 * size),
+        expected_distinct=mp.magnitude_of_real(distinct),
+        expected_duplicates=mp.magnitude_of_real(duplicates),
+        one_in=_reciprocal(risk.collision),
+        entropy_bits=mp.log2_of_int(size),
+    )
+
+
+def _reciprocal(probability: Magnitude) -> Magnitude | None:
+    """1 / p from the reported decimal text (same accuracy, one more rounding)."""
+    if probability.log10 is None:
+        return None
+    value = libmp.from_str(probability.decimal, FIGURES_PREC, mp.NEAREST)
+    inverse = mp.div(mp.ONE, value, FIGURES_PREC)
+    return Magnitude(mp.to_float(inverse), mp.decimal_text(inverse), -probability.log10)
+
+
+def _expected_distinct_and_duplicates(size: int, count: int) -> tuple[Real, Real]:
+    """N (1 - (1 - 1/N)**n) and n minus it, each with full relative accuracy.
+
+    With u = 1/N and y = n log1p(-u), duplicates = n N (log1p(-u) + u) + N (expm1(y) - y):
+    two terms of opposite sign whose sum is about C(n, 2)/N, never less than half the
+    larger term when n >= 2, so no digits are lost even when n << N.
+    """
+    prec = FIGURES_PREC
+    if count <= 1 or size == 1:
+        distinct = min(count, size)
+        return mp.real(distinct, prec), mp.real(count - distinct, prec)
+    u = mp.real(Fraction(1, size), prec + 8)
+    log_keep = mp.log1p_neg(u, prec + 8)
+    y = mp.mul(mp.real(count, prec + 8), log_keep, prec + 8)
+    big = mp.real(size, prec + 8)
+    distinct = mp.mul(big, mp.neg(mp.expm1(y, prec + 8)), prec)
+    if mp.magnitude_bits(y) >= 0:  # |y| >= 1/2: duplicates >= 0.2 n, plain subtraction
+        return distinct, mp.sub(mp.real(count, prec + 8), distinct, prec)
+    first = mp.mul(mp.mul(mp.real(count, prec + 8), big, prec + 8),
+                   mp.log1p_plus(u, prec + 8), prec + 8)
+    second = mp.mul(big, mp.expm1_minus(y, prec + 8), prec + 8)
+    return distinct, mp.add(first, second, prec)
