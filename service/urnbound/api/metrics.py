@@ -1,0 +1,146 @@
+"""Prometheus metrics of one app: its registry, its instruments and the /metrics mount."""
+
+from __future__ import annotations
+
+import os
+import time
+from collections.abc import Callable, Iterable
+from dataclasses import dataclass
+from typing import Any
+
+from flask import Flask, Response, g, request
+from prometheus_client import (
+    CONTENT_TYPE_LATEST,
+    CollectorRegistry,
+    Counter,
+    Histogram,
+    generate_latest,
+)
+from prometheus_client.multiprocess import MultiProcessCollector
+from werkzeug.middleware.dispatcher import DispatcherMiddleware
+
+#: Environment variable that switches the Prometheus client to multiprocess mode.
+MULTIPROC_ENV = "PROMETHEUS_MULTIPROC_DIR"
+#: Latency buckets in seconds: answers range from microseconds (cached) to a second.
+LATENCY_BUCKETS = (0.0005, 0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1.0, 2.5)
+
+WsgiStartResponse = Callable[..., Any]
+
+
+@dataclass(frozen=True, slots=True)
+class Metrics:
+    """The instruments the service updates, all registered on ``registry``.
+
+    :ivar registry: the app's own registry (never the process-wide default).
+    :ivar multiprocess_dir: directory shared by gunicorn workers, or ``None``.
+    """
+
+    registry: CollectorRegistry
+    requests: Counter
+    latency: Histogram
+    cache_events: Counter
+    answers: Counter
+    multiprocess_dir: str | None
+
+    def exposition(self) -> bytes:
+        """The current samples in the Prometheus text format."""
+        return generate_latest(self.scrape_registry())
+
+    def scrape_registry(self) -> CollectorRegistry:
+        """The registry to read: a fresh multiprocess one per scrape under gunicorn."""
+        if self.multiprocess_dir is None:
+            return self.registry
+        registry = CollectorRegistry()
+        MultiProcessCollector(registry, path=self.multiprocess_dir)  # type: ignore[no-untyped-call]
+        return registry
+
+
+def build_metrics(multiprocess_dir: str | None = None) -> Metrics:
+    """Create a fresh registry and the service's instruments on it."""
+    registry = CollectorRegistry(auto_describe=True)
+    return Metrics(
+        registry=registry,
+        requests=Counter(
+            "urnbound_http_requests",
+            "HTTP requests answered, by endpoint, method and status code.",
+            ("endpoint", "method", "status"),
+            registry=registry,
+        ),
+        latency=Histogram(
+            "urnbound_http_request_duration_seconds",
+            "Time from request start to response, by endpoint.",
+            ("endpoint",),
+            buckets=LATENCY_BUCKETS,
+            registry=registry,
+        ),
+        cache_events=Counter(
+            "urnbound_answer_cache",
+            "Lookups in the in-process answer cache, by result (hit or miss).",
+            ("result",),
+            registry=registry,
+        ),
+        answers=Counter(
+            "urnbound_answers_computed",
+            "Answers computed (cache misses), by endpoint and method (exact or asymptotic).",
+            ("endpoint", "method"),
+            registry=registry,
+        ),
+        multiprocess_dir=multiprocess_dir,
+    )
+
+
+def multiprocess_dir_from_env() -> str | None:
+    """The multiprocess directory named by the environment, if any."""
+    return os.environ.get(MULTIPROC_ENV) or None
+
+
+WsgiApp = Callable[[dict[str, Any], WsgiStartResponse], Iterable[bytes]]
+
+
+def metrics_wsgi_app(metrics: Metrics) -> WsgiApp:
+    """A minimal WSGI app serving :meth:`Metrics.exposition` to GET and HEAD."""
+
+    def application(environ: dict[str, Any], start_response: WsgiStartResponse) -> Iterable[bytes]:
+        if environ.get("REQUEST_METHOD", "GET") not in ("GET", "HEAD"):
+            body = (
+                b'{"type":"about:blank","title":"Method Not Allowed","status":405,'
+                b'"detail":"/metrics answers GET and HEAD only"}'
+            )
+            start_response(
+                "405 METHOD NOT ALLOWED",
+                [("Content-Type", "application/problem+json"), ("Allow", "GET, HEAD")],
+            )
+            return [body]
+        output = metrics.exposition()
+        headers = [("Content-Type", CONTENT_TYPE_LATEST), ("Content-Length", str(len(output)))]
+        start_response("200 OK", headers)
+        return [] if environ.get("REQUEST_METHOD") == "HEAD" else [output]
+
+    return application
+
+
+def endpoint_label() -> str:
+    """The matched route (bounded cardinality), or ``unmatched`` for a 404."""
+    return request.url_rule.rule if request.url_rule is not None else "unmatched"
+
+
+def init_metrics(app: Flask, metrics: Metrics) -> None:
+    """Count and time every request, and mount ``/metrics`` with a dispatcher middleware."""
+
+    @app.before_request
+    def start_timer() -> None:
+        g.urnbound_metrics_start = time.perf_counter()
+
+    @app.after_request
+    def observe(response: Response) -> Response:
+        started = g.get("urnbound_metrics_start", time.perf_counter())
+        endpoint = endpoint_label()
+        metrics.latency.labels(endpoint=endpoint).observe(time.perf_counter() - started)
+        metrics.requests.labels(
+            endpoint=endpoint, method=request.method, status=str(response.status_code)
+        ).inc()
+        return response
+
+    app.wsgi_app = DispatcherMiddleware(  # type: ignore[method-assign]
+        app.wsgi_app, {"/metrics": metrics_wsgi_app(metrics)}
+    )
