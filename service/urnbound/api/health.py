@@ -1,0 +1,84 @@
+"""GET /healthz (the process answers) and GET /readyz (the numerical core self-check passes)."""
+
+from __future__ import annotations
+
+import json
+from dataclasses import dataclass
+
+from flask import Blueprint, Response, current_app, request
+
+from urnbound.api.problems import NOT_READY, problem_response, typed_problem
+from urnbound.api.queries import EmptyQuerySchema, load_query
+from urnbound.api.schemas import HealthSchema
+from urnbound.api.state import service_state
+from urnbound.domain.questions import collision_report
+from urnbound.domain.spaces import space_from_size
+
+blueprint = Blueprint("health", __name__)
+
+
+@dataclass(frozen=True, slots=True)
+class SelfCheck:
+    """A known collision risk that the core must reproduce within ``tolerance``."""
+
+    name: str
+    size: int
+    count: int
+    expected: float
+    tolerance: float
+
+
+#: Two checks, one per path of the core.
+SELF_CHECKS = (
+    # 365 equally likely values, 23 draws: 0.5072972 to 7 decimals
+    # (encyclopedia table "Birthday problem"); taken by the exact path.
+    SelfCheck("exact-365-23", 365, 23, 0.5072972, 5e-8),
+    # 2^64 values, 2^32 draws: 1 - exp(-1/2) = 0.3934693... up to O(2^-32) (the limit of
+    # the birthday bound at n = sqrt(N); the trap listed beside RFC 4949's glossary);
+    # taken by the asymptotic path.
+    SelfCheck("asymptotic-2^64-2^32", 2**64, 2**32, 0.39346934, 1e-7),
+)
+
+
+def check_passes(check: SelfCheck, exact_digit_limit: int) -> bool:
+    """Whether the core reproduces ``check``."""
+    space = space_from_size(check.size)
+    report = collision_report(space, check.count, exact_digit_limit=exact_digit_limit)
+    return abs(report.risk.collision.value - check.expected) <= check.tolerance
+
+
+def no_store(document: dict[str, object], status: int = 200) -> Response:
+    """A JSON response that caches must not keep."""
+    response = Response(json.dumps(document), status=status, mimetype="application/json")
+    response.cache_control.no_store = True
+    return response
+
+
+@blueprint.get("/healthz")
+def healthz() -> Response:
+    """The process is alive and serving."""
+    load_query(EmptyQuerySchema(), request.args)
+    return no_store(HealthSchema().dump({"status": "ok"}))
+
+
+@blueprint.get("/readyz")
+def readyz() -> Response:
+    """The numerical core answers the self-checks correctly."""
+    load_query(EmptyQuerySchema(), request.args)
+    limit = service_state().settings.exact_digit_limit
+    outcomes = {check.name: _outcome(check, limit) for check in SELF_CHECKS}
+    failed = sorted(name for name, outcome in outcomes.items() if outcome != "passed")
+    if failed:
+        detail = f"core self-check failed: {', '.join(failed)}"
+        response = problem_response(typed_problem(NOT_READY, detail))
+        response.cache_control.no_store = True
+        return response
+    return no_store(HealthSchema().dump({"status": "ready", "checks": outcomes}))
+
+
+def _outcome(check: SelfCheck, limit: int) -> str:
+    try:
+        return "passed" if check_passes(check, limit) else "wrong value"
+    except Exception:  # a broken core must make the instance unready, not crash the probe
+        current_app.logger.exception("self-check %s raised", check.name)
+        return "raised"
