@@ -20,7 +20,7 @@ cancellation factor 2/x.
 Remainder. For real z > 0 the Stirling remainder after K terms has the sign of, and is
 smaller than, the first omitted term (DLMF 5.11.ii). So truncating D after K terms
 leaves an error below |c_{K+1}| (N**-(2K+1) + M**-(2K+1)) <= 2 |c_{K+1}| M**-(2K+1).
-Terms are added until that bound falls under 2**-(target+8) |L|. When M is too small
+Terms are added until that bound falls under 2**-(target+8) min(1, |L|). When M is too small
 for that (n close to N), ln M! is taken exactly from the integer M! instead
 (``small-remainder`` form).
 
@@ -82,8 +82,9 @@ class _Sum:
 def log_no_collision(size: int, count: int, target_bits: int = 64) -> LogNoCollision:
     """ln P(no collision) for 2 <= count <= size, size >= MIN_SIZE.
 
-    The absolute error bound is at most 2**-target_bits * max(1, |L|), so that both the
-    probability and its complement come out with ``target_bits`` of relative accuracy.
+    The absolute error bound is about 2**-target_bits * min(1, |L|), so that both the
+    probability exp(L) and its complement -expm1(L) have ``target_bits`` of relative
+    accuracy.
 
     >>> est = log_no_collision(2**64, 5_000_000_000)
     >>> round(-mp.to_float(est.value), 6)
@@ -132,7 +133,11 @@ def _stirling_form(size: int, count: int, target_bits: int, work: int) -> LogNoC
         main = _leading_series(size, count, work)
     else:
         main = _leading_closed_form(size, count, work + CLOSED_FORM_EXTRA_BITS)
-    floor = mp.scale2(mp.absolute(main.total), -1)  # |L| >= |main| / 2: D is tiny against it
+    # |L| >= |main| / 2 (D is tiny against it). P(no collision) = exp(L) needs an absolute
+    # error in L below 2**-target; the risk -expm1(L) needs a relative one when |L| < 1.
+    floor = mp.scale2(mp.absolute(main.total), -1)
+    if mp.less(mp.ONE, floor):
+        floor = mp.ONE
     tolerance = mp.scale2(floor, -(target_bits + 8))
     correction = _stirling_difference(size, rest, tolerance, work)
     if correction is None:

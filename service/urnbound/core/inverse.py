@@ -27,7 +27,7 @@ from urnbound.core.regimes import choose_method, is_trivial
 from urnbound.core.results import CapacityAnswer, LengthAnswer
 
 #: Times the asymptotic precision is doubled before a comparison is declared undecidable.
-MAX_PRECISION_DOUBLINGS = 5
+MAX_PRECISION_DOUBLINGS = 3
 #: Newton steps of the count search before the local search takes over regardless.
 MAX_NEWTON_STEPS = 40
 
