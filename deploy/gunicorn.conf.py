@@ -6,7 +6,7 @@
 # Environment (all optional):
 #   URNBOUND_HOST              bind address, default 127.0.0.1 (the container image sets 0.0.0.0)
 #   URNBOUND_PORT              TCP port, 1..65535, default 8080
-#   URNBOUND_WORKERS           sync worker processes, 1..64, default 2 x usable CPUs + 1
+#   URNBOUND_WORKERS           sync worker processes, 1..64; 0 or unset: 2 x usable CPUs + 1
 #   URNBOUND_WORKER_TIMEOUT    seconds a silent worker may run before it is killed, default 30
 #   URNBOUND_GRACEFUL_TIMEOUT  seconds workers get to finish on shutdown, default 20
 #   URNBOUND_MAX_REQUESTS      requests before a worker is recycled, 0 = never, default 10000
@@ -68,7 +68,8 @@ bind = [f"[{_host}]:{_port}" if ":" in _host and not _host.startswith("[") else 
 # The work is CPU-bound with a bounded cost per request, so plain sync workers suffice; the
 # default is gunicorn's documented starting point of 2 x cores + 1.
 worker_class = "sync"
-workers = _env_int("URNBOUND_WORKERS", 2 * _usable_cpus() + 1, 1, 64)
+# URNBOUND_WORKERS=0 asks for the default, as in urnbound.config.Settings.
+workers = _env_int("URNBOUND_WORKERS", 0, 0, 64) or 2 * _usable_cpus() + 1
 timeout = _env_int("URNBOUND_WORKER_TIMEOUT", 30, 1, 600)
 graceful_timeout = _env_int("URNBOUND_GRACEFUL_TIMEOUT", 20, 1, 600)
 keepalive = 2
