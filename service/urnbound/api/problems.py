@@ -85,9 +85,11 @@ def field_messages(messages: object) -> dict[str, list[str]]:
 
 
 def summary(errors: Mapping[str, list[str]]) -> str:
-    """A one-sentence ``detail`` naming every field at fault."""
+    """A ``detail`` naming every field at fault (the message itself when there is one)."""
     names = sorted(errors)
-    return f"The query has a problem with: {', '.join(names)}. See errors for each field."
+    if len(names) == 1 and len(errors[names[0]]) == 1:
+        return f"{names[0]}: {errors[names[0]][0]}"
+    return f"The query has problems with: {', '.join(names)}. See errors for each field."
 
 
 def handle_http_exception(error: HTTPException) -> Response:
