@@ -1,0 +1,179 @@
+"""Related figures (pairs, distinct values, duplicates, odds, entropy) against sympy and mpmath."""
+
+from __future__ import annotations
+
+import math
+from fractions import Fraction
+from math import isqrt
+
+import mpmath
+import pytest
+import sympy
+
+from urnbound.core.pairwise import collision_risk, related_figures
+from urnbound.core.results import Magnitude, RelatedFigures
+
+from ._reference import (
+    SMALLEST_NORMAL,
+    high_precision_risk,
+    ln_of_text,
+    parse_decimal,
+    relative_gap,
+    rounded_candidates,
+)
+
+#: Agreement asked of every figure, relative.
+REQUIRED_RELATIVE = 1e-15
+LARGEST_FLOAT = 1.7976931348623157e308
+
+
+def figures(size: int, count: int) -> RelatedFigures:
+    return related_figures(size, count, collision_risk(size, count))
+
+
+def figure_context(size: int, count: int) -> mpmath.ctx_mp.MPContext:
+    """Private context wide enough for n - N(1 - (1 - 1/N)**n) without cancellation loss."""
+    mp = mpmath.MPContext()
+    mp.prec = 2 * size.bit_length() + 2 * max(count, 1).bit_length() + 200
+    return mp
+
+
+def check_figure(mp: mpmath.ctx_mp.MPContext, ours: Magnitude, ref: mpmath.mpf, what: str) -> None:
+    """A reported figure against a high-precision reference value (zero means exact zero)."""
+    if ref == 0:
+        assert ours.decimal == "0", what
+        assert ours.value == 0.0 and ours.log10 is None, what
+        return
+    ln_ref = mp.log(ref)
+    gap = relative_gap(mp, ln_of_text(mp, ours.decimal), ln_ref)
+    assert gap <= REQUIRED_RELATIVE, f"{what}: {ours.decimal} vs {mp.nstr(ref, 25)}"
+    if ref > LARGEST_FLOAT:
+        assert ours.value == math.inf, what
+    elif ref >= SMALLEST_NORMAL:
+        assert abs(mp.mpf(ours.value) / ref - 1) <= REQUIRED_RELATIVE, f"{what}: {ours.value!r}"
+    else:
+        assert abs(mp.mpf(ours.value) - ref) <= 2 * 2.0**-1074, f"{what}: {ours.value!r}"
+    log10_ref = ln_ref / mp.ln10
+    assert ours.log10 is not None, what
+    tol = REQUIRED_RELATIVE * max(1.0, float(abs(log10_ref)))
+    assert abs(mp.mpf(ours.log10) - log10_ref) <= tol, f"{what}: log10 {ours.log10!r}"
+
+
+# --- exact small cases (sympy rationals) ------------------------------------------------------
+
+
+def exact_distinct(size: int, count: int) -> Fraction:
+    """N(1 - (1 - 1/N)**n) as a sympy rational."""
+    n_ = sympy.Integer(size)
+    value = n_ * (1 - (1 - 1 / n_) ** count)
+    return Fraction(int(value.p), int(value.q))
+
+
+def exact_pairs(size: int, count: int) -> Fraction:
+    value = sympy.Rational(sympy.binomial(count, 2), size)
+    return Fraction(int(value.p), int(value.q))
+
+
+def as_mpf(mp: mpmath.ctx_mp.MPContext, x: Fraction) -> mpmath.mpf:
+    return mp.mpf(x.numerator) / x.denominator
+
+
+@pytest.mark.parametrize("size", [1, 2, 3, 5, 10, 23, 64, 365, 1000])
+def test_small_sizes_against_sympy(size: int) -> None:
+    # reference: sympy exact rationals for C(n,2)/N, N(1 - (1 - 1/N)**n), n minus that, 1/risk
+    counts = sorted({*range(0, min(size, 30) + 3), isqrt(size), size // 2, size, size + 1})
+    for count in counts:
+        what = f"N={size} n={count}"
+        mp = figure_context(size, count)
+        ours = figures(size, count)
+        distinct = exact_distinct(size, count)
+        pairs = exact_pairs(size, count)
+        check_figure(mp, ours.expected_distinct, as_mpf(mp, distinct), f"{what} distinct")
+        check_figure(mp, ours.expected_duplicates, as_mpf(mp, count - distinct), f"{what} dups")
+        check_figure(mp, ours.expected_colliding_pairs, as_mpf(mp, pairs), f"{what} pairs")
+        if pairs:
+            parsed = parse_decimal(ours.expected_colliding_pairs.decimal)
+            # C(n,2)/N is reported exactly, then correctly rounded
+            assert (parsed.mantissa, parsed.exponent) in rounded_candidates(pairs), what
+        risk = 1 - sympy.Rational(sympy.ff(size, count), sympy.Integer(size) ** count)
+        if risk == 0:
+            assert ours.one_in is None, what
+        else:
+            assert ours.one_in is not None, what
+            inverse = Fraction(int(risk.q), int(risk.p))
+            check_figure(mp, ours.one_in, as_mpf(mp, inverse), f"{what} one_in")
+
+
+def test_birthday_figures_for_23_of_365() -> None:
+    # reference: sympy exact rationals; 23 people over 365 days (encyclopedia table,
+    # "Birthday problem": risk 0.5072972) -> one in 1.97, 253/365 expected pairs
+    ours = figures(365, 23)
+    assert ours.one_in is not None and round(ours.one_in.value, 3) == 1.971
+    pairs = Fraction(ours.expected_colliding_pairs.decimal)
+    assert abs(pairs - Fraction(253, 365)) < Fraction(1, 10**20)
+    assert ours.entropy_bits == pytest.approx(math.log2(365), rel=1e-15)
+
+
+# --- large sizes (mpmath in a private context) -----------------------------------------------
+
+LARGE = [2**32, 10**12, 2**64, 2**128, 3**200, 2**1024, 2**4096]
+
+
+def large_counts(size: int) -> list[int]:
+    root = isqrt(size)
+    picks = {0, 1, 2, 3, 1000, root // 10, root, 10 * root, size // 2, size, 10**60}
+    return sorted(c for c in picks if c >= 0)
+
+
+LARGE_POINTS = [(size, count) for size in LARGE for count in large_counts(size)]
+
+
+def point_id(point: tuple[int, int]) -> str:
+    size, count = point
+    return f"2^{size.bit_length() - 1}~{count.bit_length()}bits"
+
+
+@pytest.mark.parametrize("point", LARGE_POINTS, ids=point_id)
+def test_large_sizes_against_mpmath(point: tuple[int, int]) -> None:
+    # reference: mpmath, private context at 2 log2 N + 2 log2 n + 200 bits:
+    # distinct = -N expm1(n log1p(-1/N)), duplicates = n - distinct, pairs = n(n-1)/(2N)
+    size, count = point
+    what = f"N~2^{size.bit_length()} n~2^{count.bit_length()}"
+    mp = figure_context(size, count)
+    ours = figures(size, count)
+    distinct = -mp.mpf(size) * mp.expm1(count * mp.log1p(-1 / mp.mpf(size)))
+    if count <= 1:
+        distinct = mp.mpf(count)
+    check_figure(mp, ours.expected_distinct, distinct, f"{what} distinct")
+    check_figure(mp, ours.expected_duplicates, count - distinct, f"{what} duplicates")
+    pairs = mp.mpf(count) * (count - 1) / (2 * mp.mpf(size))
+    check_figure(mp, ours.expected_colliding_pairs, pairs, f"{what} pairs")
+    ref = high_precision_risk(size, count)
+    if ref.ln_risk is None:
+        assert ours.one_in is None, what
+    else:
+        assert ours.one_in is not None, what
+        check_figure(ref.mp, ours.one_in, ref.mp.exp(-ref.ln_risk), f"{what} one_in")
+
+
+@pytest.mark.parametrize("bits", [1, 2, 53, 64, 122, 128, 1023, 1024, 4096, 8192])
+def test_entropy_of_a_power_of_two_is_its_bit_count(bits: int) -> None:
+    # log2(2**b) = b exactly
+    assert figures(2**bits, 2).entropy_bits == float(bits)
+
+
+@pytest.mark.parametrize("size", [3, 10, 365, 10**12, 3**200, 2**4096 - 1, 7**2900])
+def test_entropy_bits_against_mpmath(size: int) -> None:
+    # reference: mpmath log2 at 4 log2 N + 200 bits
+    mp = mpmath.MPContext()
+    mp.prec = 4 * size.bit_length() + 200
+    ref = mp.log(mp.mpf(size), 2)
+    assert abs(figures(size, 2).entropy_bits / ref - 1) <= 2**-52
+
+
+def test_one_in_is_one_for_a_certain_collision() -> None:
+    # pigeonhole: 366 draws from 365 values collide for sure, odds one in one
+    ours = figures(365, 366)
+    assert ours.one_in is not None
+    assert Fraction(ours.one_in.decimal) == 1
+    assert ours.one_in.value == 1.0 and ours.one_in.log10 == 0.0
