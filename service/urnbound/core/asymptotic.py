@@ -45,14 +45,18 @@ from urnbound.core.precision import Real
 
 #: Below this ratio n/N the leading terms are summed as a series (see module docstring).
 SERIES_RATIO_BITS = 16
-#: Extra bits of the closed form above that ratio: cancellation 2/x plus guard.
-CLOSED_FORM_EXTRA_BITS = 2 * SERIES_RATIO_BITS + 8
+#: Most terms the leading series may take; past that the closed form is cheaper.
+MAX_SERIES_TERMS = 16
+#: Below this M = N - n the Stirling series of ln M! is not tried (ln M! is formed exactly).
+MIN_STIRLING_REST = 256
 #: Stirling terms tried before falling back to the exact ln M!.
 MAX_STIRLING_TERMS = 40
 #: Largest M whose factorial the fallback forms exactly (cost ~ M log M bits).
 MAX_EXACT_FACTORIAL = 20_000
 #: Guard bits on top of the target and the magnitude of L.
 GUARD_BITS = 24
+#: Stop adding Stirling terms once the truncation is below this many units of 2**-scale.
+MAX_TRUNCATION_UNITS = 2 ** (GUARD_BITS - 16)
 #: Smallest space the expansion is used for (below, exact arithmetic is always cheap).
 MIN_SIZE = 1024
 
@@ -72,11 +76,11 @@ class LogNoCollision:
 
 
 @dataclass(frozen=True, slots=True)
-class _Sum:
-    """A partial sum of L with a bound on its rounding and truncation error."""
+class _Fixed:
+    """A partial sum of L in units of 2**-scale, with a bound on its error in units."""
 
-    total: Real
-    error: Real
+    total: int
+    error: int
 
 
 def log_no_collision(size: int, count: int, target_bits: int = 64) -> LogNoCollision:
@@ -94,7 +98,7 @@ def log_no_collision(size: int, count: int, target_bits: int = 64) -> LogNoColli
         raise ValueError("the expansion needs 2 <= count <= size and size >= MIN_SIZE")
     work = _working_precision(size, count, target_bits)
     rest = size - count
-    if rest >= 1:
+    if rest >= MIN_STIRLING_REST:
         estimate = _stirling_form(size, count, target_bits, work)
         if estimate is not None:
             return estimate
@@ -126,94 +130,115 @@ def _log2(value: int) -> float:
 
 
 def _stirling_form(size: int, count: int, target_bits: int, work: int) -> LogNoCollision | None:
-    """L = -(M+1/2) log1p(-x) - n + D; ``None`` when D's remainder cannot be made small."""
+    """L = -(M+1/2) log1p(-x) - n + D in fixed point; ``None`` if D's remainder stays large.
+
+    All parts are summed as integers in units of 2**-scale, chosen so that one unit is
+    2**-(target + GUARD_BITS) min(1, |L|): exp(L) needs an absolute error in L below
+    2**-target, and -expm1(L) a relative one when |L| < 1.
+    """
     rest = size - count
-    ratio_bits = count.bit_length() - size.bit_length()
-    if ratio_bits < -SERIES_RATIO_BITS:
-        main = _leading_series(size, count, work)
+    scale = target_bits + GUARD_BITS + max(0, -_log2_magnitude(size, count))
+    if _series_terms(size, count, scale) <= MAX_SERIES_TERMS:
+        main = _leading_series(size, count, scale)
     else:
-        main = _leading_closed_form(size, count, work + CLOSED_FORM_EXTRA_BITS)
-    # |L| >= |main| / 2 (D is tiny against it). P(no collision) = exp(L) needs an absolute
-    # error in L below 2**-target; the risk -expm1(L) needs a relative one when |L| < 1.
-    floor = mp.scale2(mp.absolute(main.total), -1)
-    if mp.less(mp.ONE, floor):
-        floor = mp.ONE
-    tolerance = mp.scale2(floor, -(target_bits + 8))
-    correction = _stirling_difference(size, rest, tolerance, work)
+        main = _leading_closed_form(size, count, scale)
+    correction = _stirling_difference(size, rest, scale)
     if correction is None:
         return None
-    value = mp.add(main.total, correction.total, work)
-    error = mp.add_up(mp.add_up(main.error, correction.error), mp.scale2(mp.absolute(value), -work))
-    return LogNoCollision(value, error, work)
+    value = libmp.from_man_exp(main.total + correction.total, -scale)
+    error = libmp.from_man_exp(main.error + correction.error, -scale)
+    return LogNoCollision(value, error, max(work, scale + mp.magnitude_bits(value)))
 
 
-def _leading_series(size: int, count: int, work: int) -> _Sum:
-    """-sum_{k>=2} n x**(k-1)/(k(k-1)) + (1/2) sum_{k>=1} x**k/k, for x < 2**-16."""
-    prec = work + 8
-    x = mp.real(Fraction(count, size), prec)
-    n = mp.real(count, prec)
-    total = mp.scale2(x, -1)  # k = 1 of the second sum
-    absolute = total
-    power = mp.ONE  # x**(k-1)
-    for k in range(2, 4 * work + 8):
-        power = mp.mul(power, x, prec)
-        first = mp.div(mp.mul(n, power, prec), mp.real(k * (k - 1), prec), prec)
-        second = mp.div(mp.mul(power, x, prec), mp.real(2 * k, prec), prec)
-        term = mp.sub(second, first, prec)
-        total = mp.add(total, term, prec)
-        absolute = mp.add(absolute, mp.add(first, second, prec), prec)
-        if mp.magnitude_bits(first) < mp.magnitude_bits(total) - work - 4:
-            # tail < 2x * (last terms) < 2**-(work+19) |total|: inside the bound below
-            return _Sum(total, mp.scale2(absolute, 6 - prec))
+def _series_terms(size: int, count: int, scale: int) -> int:
+    """Terms the leading series needs: its k-th term is about n x**(k-1) / k**2."""
+    gap = size.bit_length() - count.bit_length() - 1  # x < 2**-gap
+    if gap < SERIES_RATIO_BITS:
+        return MAX_SERIES_TERMS + 1
+    return (count.bit_length() + scale) // gap + 2
+
+
+def _leading_series(size: int, count: int, scale: int) -> _Fixed:
+    """-sum_{k>=2} n**k / (k(k-1) N**(k-1)) + sum_{k>=1} n**k / (2k N**k), for x < 2**-16.
+
+    Each term is floored once (one unit each). Terms fall by a factor x, so once the
+    larger one floors to zero the tail is below x / (1 - x) < 1 unit.
+    """
+    total = (count << scale) // (2 * size)
+    error = 2
+    count_power, size_power = count, size  # n**(k-1), N**(k-1)
+    for k in range(2, MAX_SERIES_TERMS + 2):
+        count_power *= count
+        shifted = count_power << scale
+        first = shifted // (k * (k - 1) * size_power)
+        size_power *= size
+        second = shifted // (2 * k * size_power)
+        total += second - first
+        error += 2
+        if first == 0:
+            return _Fixed(total, error)
     raise NoConvergence("leading series did not converge")
 
 
-def _leading_closed_form(size: int, count: int, prec: int) -> _Sum:
-    """-(M + 1/2) log(M/N) - n, evaluated at ``prec`` bits (extra bits absorb cancellation).
+def _leading_closed_form(size: int, count: int, scale: int) -> _Fixed:
+    """-(M + 1/2) log(M/N) - n, for x >= 2**-16, with log at scale + log2 N + 16 bits.
 
-    Rounding M/N costs (M + 1/2) 2**-(prec+8) in absolute terms (log is ill-conditioned near
-    1); the log, the product and the difference a few units of |first| + n each.
+    Rounding M/N costs (M + 1/2) 2**-(prec+8) absolutely (log is ill-conditioned near
+    1), the log and the product |first| 2**-prec each, the conversion one unit: with
+    |first| < N and prec as chosen, all four stay below 4 units.
     """
     rest = size - count
-    log_ratio = mp.log(mp.real(Fraction(rest, size), prec + 8), prec)
-    weight = mp.scale2(mp.real(2 * rest + 1, prec), -1)
-    first = mp.neg(mp.mul(weight, log_ratio, prec))
-    second = mp.real(count, prec)
-    total = mp.sub(first, second, prec)
-    spread = mp.add(mp.add(weight, mp.absolute(first), prec), second, prec)
-    return _Sum(total, mp.scale2(spread, 4 - prec))
+    prec = scale + size.bit_length() + 16
+    log_ratio = mp.log(libmp.from_rational(rest, size, prec + 8, mp.NEAREST), prec)
+    weight = libmp.from_man_exp(2 * rest + 1, -1)
+    first = int(libmp.to_fixed(mp.neg(mp.mul(weight, log_ratio, prec)), scale))
+    return _Fixed(first - (count << scale), 4)
 
 
-def _stirling_difference(size: int, rest: int, tolerance: Real, work: int) -> _Sum | None:
-    """D = R(N) - R(M) with its truncation and rounding bound, or ``None``.
+def _stirling_difference(size: int, rest: int, scale: int) -> _Fixed | None:
+    """D = R(N) - R(M) in units of 2**-scale, or ``None`` if its remainder stays large.
 
-    Each term is a power (a handful of roundings per bit of the exponent) and a product,
-    so 2**8 units of its magnitude bound its rounding.
+    Term j is c_j (M**p - N**p) / (N**p M**p) with p = 2j - 1, floored once. After it,
+    the truncation is below 2 |c_(j+1)| / M**(p+2) (first omitted terms of R(N), R(M)).
     """
-    big = mp.real(size, work)
-    small = mp.real(rest, work)
-    total = mp.ZERO
-    absolute = mp.ZERO
+    total = 0
+    error = 0
+    big_power, small_power = size, rest
+    big_square, small_square = size * size, rest * rest
     for j in range(1, MAX_STIRLING_TERMS + 1):
-        coefficient = _stirling_coefficient(j, work)
-        power = 2 * j - 1
-        term_big = mp.mul(coefficient, _inverse_power(big, power, work), work)
-        term_small = mp.mul(coefficient, _inverse_power(small, power, work), work)
-        total = mp.add(total, mp.sub(term_big, term_small, work), work)
-        spread = mp.add(mp.absolute(term_big), mp.absolute(term_small), work)
-        absolute = mp.add(absolute, spread, work)
-        next_coefficient = mp.absolute(_stirling_coefficient(j + 1, work))
-        truncation = mp.scale2(
-            mp.mul(next_coefficient, _inverse_power(small, power + 2, work), work), 1)
-        if not mp.less(tolerance, truncation):
-            return _Sum(total, mp.add_up(truncation, mp.scale2(absolute, 8 - work)))
+        numerator, denominator = _stirling_coefficient(j)
+        difference = numerator * (small_power - big_power)
+        total += (difference << scale) // (denominator * big_power * small_power)
+        error += 1
+        following, following_denominator = _stirling_coefficient(j + 1)
+        small_power *= small_square
+        truncation = (2 * abs(following) << scale) // (following_denominator * small_power) + 1
+        if truncation <= MAX_TRUNCATION_UNITS:
+            return _Fixed(total, error + truncation)
+        big_power *= big_square
     return None
 
 
-def _stirling_coefficient(j: int, prec: int) -> Real:
-    """B_2j / (2j (2j-1)), the j-th coefficient of the Stirling series."""
-    bernoulli = libmp.mpf_bernoulli(2 * j, prec + 8)
-    return mp.div(bernoulli, mp.real(2 * j * (2 * j - 1), prec), prec)
+def _stirling_coefficient(j: int) -> tuple[int, int]:
+    """B_2j / (2j (2j-1)), the j-th Stirling coefficient, as (numerator, denominator)."""
+    return _STIRLING_COEFFICIENTS[j - 1]
+
+
+def _coefficient_table(terms: int) -> tuple[tuple[int, int], ...]:
+    table = []
+    for j in range(1, terms + 1):
+        numerator, denominator = libmp.bernfrac(2 * j)
+        table.append((int(numerator), int(denominator) * 2 * j * (2 * j - 1)))
+    return tuple(table)
+
+
+#: Stirling coefficients for j = 1 .. MAX_STIRLING_TERMS + 1 (an immutable constant).
+_STIRLING_COEFFICIENTS = _coefficient_table(MAX_STIRLING_TERMS + 1)
+
+
+def _stirling_coefficient_real(j: int, prec: int) -> Real:
+    numerator, denominator = _stirling_coefficient(j)
+    return mp.real(Fraction(numerator, denominator), prec)
 
 
 def _inverse_power(value: Real, power: int, prec: int) -> Real:
@@ -252,9 +277,9 @@ def _stirling_series(z: Real, prec: int) -> tuple[Real, Real]:
     total = mp.ZERO
     goal = -prec - 8
     for j in range(1, MAX_STIRLING_TERMS + 1):
-        term = mp.mul(_stirling_coefficient(j, prec), _inverse_power(z, 2 * j - 1, prec), prec)
+        term = mp.mul(_stirling_coefficient_real(j, prec), _inverse_power(z, 2 * j - 1, prec), prec)
         total = mp.add(total, term, prec)
-        following = mp.mul(_stirling_coefficient(j + 1, prec),
+        following = mp.mul(_stirling_coefficient_real(j + 1, prec),
                            _inverse_power(z, 2 * j + 1, prec), prec)
         if mp.magnitude_bits(following) < goal:
             return total, mp.absolute(following)
@@ -294,8 +319,7 @@ def risk_estimate(size: int, count: int, target_bits: int = 64) -> RiskEstimate:
     log_estimate = log_no_collision(size, count, target_bits)
     out = target_bits + GUARD_BITS
     value = log_estimate.value
-    no_collision = mp.exp(value, out)
-    collision = mp.neg(mp.expm1(value, out))
+    no_collision, collision = _exp_and_complement(value, out)
     spread = _expm1_bound(log_estimate.error)
     final_rounding = mp.scale2(mp.ONE, 2 - out)
     ratio = mp.div(no_collision, collision, 53)
@@ -307,6 +331,20 @@ def risk_estimate(size: int, count: int, target_bits: int = 64) -> RiskEstimate:
         no_collision_error=mp.add_up(spread, final_rounding),
         prec=log_estimate.prec,
     )
+
+
+def _exp_and_complement(value: Real, out: int) -> tuple[Real, Real]:
+    """exp(L) and 1 - exp(L) for L < 0, each to ``out`` bits, from one exponential.
+
+    exp is formed with -log2|L| extra bits, so that 1 - exp(L) keeps ``out`` bits
+    when L is small; below 2**-(out+4), 1 - exp(L) = -L (1 + L/2 + ...) is -L to
+    within a relative 2**-(out+4).
+    """
+    bits = mp.magnitude_bits(value)
+    if bits < -out - 4:
+        return mp.add(mp.ONE, value, out), mp.neg(value)
+    wide = mp.exp(value, out + max(0, -bits) + 12)
+    return libmp.mpf_pos(wide, out, mp.NEAREST), mp.sub(mp.ONE, wide, out)
 
 
 def _expm1_bound(error: Real) -> Real:
