@@ -37,6 +37,7 @@ import math
 from dataclasses import dataclass
 from fractions import Fraction
 
+import gmpy2
 from mpmath import libmp
 
 from urnbound.core import precision as mp
@@ -164,6 +165,7 @@ def _leading_series(size: int, count: int, scale: int) -> _Fixed:
     Each term is floored once (one unit each). Terms fall by a factor x, so once the
     larger one floors to zero the tail is below x / (1 - x) < 1 unit.
     """
+    count, size = gmpy2.mpz(count), gmpy2.mpz(size)  # GMP division: far faster on big ints
     total = (count << scale) // (2 * size)
     error = 2
     count_power, size_power = count, size  # n**(k-1), N**(k-1)
@@ -176,7 +178,7 @@ def _leading_series(size: int, count: int, scale: int) -> _Fixed:
         total += second - first
         error += 2
         if first == 0:
-            return _Fixed(total, error)
+            return _Fixed(int(total), error)
     raise NoConvergence("leading series did not converge")
 
 
@@ -201,10 +203,10 @@ def _stirling_difference(size: int, rest: int, scale: int) -> _Fixed | None:
     Term j is c_j (M**p - N**p) / (N**p M**p) with p = 2j - 1, floored once. After it,
     the truncation is below 2 |c_(j+1)| / M**(p+2) (first omitted terms of R(N), R(M)).
     """
-    total = 0
+    total = gmpy2.mpz(0)
     error = 0
-    big_power, small_power = size, rest
-    big_square, small_square = size * size, rest * rest
+    big_power, small_power = gmpy2.mpz(size), gmpy2.mpz(rest)
+    big_square, small_square = big_power * big_power, small_power * small_power
     for j in range(1, MAX_STIRLING_TERMS + 1):
         numerator, denominator = _stirling_coefficient(j)
         difference = numerator * (small_power - big_power)
@@ -214,7 +216,7 @@ def _stirling_difference(size: int, rest: int, scale: int) -> _Fixed | None:
         small_power *= small_square
         truncation = (2 * abs(following) << scale) // (following_denominator * small_power) + 1
         if truncation <= MAX_TRUNCATION_UNITS:
-            return _Fixed(total, error + truncation)
+            return _Fixed(int(total), error + int(truncation))
         big_power *= big_square
     return None
 
