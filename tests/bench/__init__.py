@@ -1,0 +1,1 @@
+"""Benchmark scripts, run by hand; pytest ignores this package (see conftest.py)."""
