@@ -8,27 +8,32 @@ With M = N - n and x = n/N, the logarithm of the no-collision probability is
 the Stirling series of ln z! (the 1/2 ln 2 pi terms cancel). Nothing here assumes
 n << sqrt(N): the form holds for every ratio x in (0, 1].
 
-Cancellation. For small x the two leading terms nearly cancel (L ~ -n x / 2 while each
-term is ~ n). Below x = 2**-16 they are therefore summed as one positive series,
+Fixed point. The parts of L are summed as integers in units of 2**-scale, one unit
+being 2**-(target + GUARD_BITS) * min(1, |L|): exp(L) needs L to an absolute
+2**-target, and the risk -expm1(L) needs it to a relative 2**-target when |L| < 1.
+Fixed point makes cancellation harmless: each part is rounded once, to an absolute
+unit, whatever the size of its neighbours.
+
+Leading terms. For small x the two leading terms nearly cancel (L ~ -n x / 2 while
+each is ~ n). When x < 2**-16 and few terms suffice they are summed as one series,
 
     -(M + 1/2) log1p(-x) - n = -sum_{k>=2} n x**(k-1) / (k (k-1)) + (1/2) sum_{k>=1} x**k / k,
 
-whose terms fall by a factor x; the tail after a term t is below t * x / (1 - x).
-Above 2**-16 the closed form is evaluated with 2*16 + 8 extra bits, which absorb the
-cancellation factor 2/x.
+with exact integer numerators, each term floored once; terms fall by a factor x, so
+once a term floors to zero the tail is under one unit. Otherwise the closed form is
+used, its logarithm taken at scale + log2 N + 16 bits so that even after multiplying
+by M + 1/2 it is good to a unit.
 
 Remainder. For real z > 0 the Stirling remainder after K terms has the sign of, and is
 smaller than, the first omitted term (DLMF 5.11.ii). So truncating D after K terms
-leaves an error below |c_{K+1}| (N**-(2K+1) + M**-(2K+1)) <= 2 |c_{K+1}| M**-(2K+1).
-Terms are added until that bound falls under 2**-(target+8) min(1, |L|). When M is too small
-for that (n close to N), ln M! is taken exactly from the integer M! instead
-(``small-remainder`` form).
+leaves an error below |c_{K+1}| (N**-(2K+1) + M**-(2K+1)) <= 2 |c_{K+1}| M**-(2K+1);
+terms are added until that is below MAX_TRUNCATION_UNITS units. When M is small
+(n close to N), ln M! is taken from the integer M! instead (``small-remainder`` form,
+in floating point with a bound of a few units in the last place per term).
 
-Rounding. Every term is formed at a known precision and carries at most a few units in
-its last place; each partial sum therefore bounds its rounding error by 2**(c - prec)
-times the sum of the absolute values of what went into it (c = 4 to 8, stated per
-form, generous against the handful of roundings per term). The reported bound is
-truncation plus rounding, rounded upwards.
+The reported error bound is the sum of the per-term rounding units and the
+truncation, converted to relative bounds on the probability and its complement in
+``risk_estimate``.
 """
 
 from __future__ import annotations

@@ -73,6 +73,19 @@ def exact_risk(size: int, count: int) -> ExactRisk:
     return ExactRisk(int(total - distinct), int(distinct), int(total))
 
 
+def risk_at_most(size: int, count: int, bound: Fraction) -> bool:
+    """risk(count, size) <= bound, decided exactly without reducing any fraction.
+
+    >>> risk_at_most(365, 23, Fraction(1, 2)), risk_at_most(365, 22, Fraction(1, 2))
+    (False, True)
+    """
+    if count <= 1 or count > size:
+        return count <= 1 or bound >= 1
+    distinct = gmpy2.mpz(falling_factorial(size, count))
+    total = gmpy2.mpz(size) ** count
+    return bool((total - distinct) * bound.denominator <= bound.numerator * total)
+
+
 def digits_estimate(value: int) -> int:
     """Upper estimate of the number of decimal digits of a positive integer."""
     return int(value.bit_length() * _LOG10_2) + 1
@@ -128,10 +141,9 @@ def log10_of_fraction(numerator: int, denominator: int, prec: int = 80) -> float
     """log10 of a positive fraction, accurate also when the fraction is close to 1."""
     complement = denominator - numerator
     if 0 <= 4 * complement < denominator:
-        tiny = mp.real(Fraction(complement, denominator), prec)
-        natural = mp.log1p_neg(tiny, prec)
+        natural = mp.log1p_neg(mp.ratio(complement, denominator, prec), prec)
     else:
-        natural = mp.log(mp.real(Fraction(numerator, denominator), prec), prec)
+        natural = mp.log(mp.ratio(numerator, denominator, prec), prec)
     return mp.to_float(mp.div(natural, mp.ln10(prec), prec))
 
 

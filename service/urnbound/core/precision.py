@@ -39,6 +39,15 @@ def real(value: int | Fraction, prec: int) -> Real:
     return libmp.from_int(int(value), prec, NEAREST)
 
 
+def ratio(numerator: int, denominator: int, prec: int) -> Real:
+    """numerator / denominator rounded to ``prec`` bits, without reducing the fraction.
+
+    >>> to_float(ratio(6, 8, 53))
+    0.75
+    """
+    return libmp.from_rational(int(numerator), int(denominator), prec, NEAREST)
+
+
 def add(a: Real, b: Real, prec: int) -> Real:
     return libmp.mpf_add(a, b, prec, NEAREST)
 
