@@ -77,7 +77,7 @@ def test_factory_reads_environment_inside(monkeypatch: pytest.MonkeyPatch) -> No
     monkeypatch.setenv("URNBOUND_CACHE_MAX_AGE", "30")
     app = create_app()
     assert state_of(app).settings.cache_entries == 7
-    assert state_of(app).caching.cache.capacity == 7
+    assert state_of(app).caching.answers.capacity == 7
     response = app.test_client().get("/v1/collisions?bits=8&count=3")
     assert response.cache_control.max_age == 30
 
@@ -93,7 +93,7 @@ def test_factory_overrides_win_and_other_keys_go_to_config() -> None:
 def test_apps_do_not_share_state() -> None:
     first, second = create_app(), create_app()
     assert state_of(first).metrics.registry is not state_of(second).metrics.registry
-    assert state_of(first).caching.cache is not state_of(second).caching.cache
+    assert state_of(first).caching.answers is not state_of(second).caching.answers
 
 
 def test_access_log_is_one_json_line_per_request(capsys: pytest.CaptureFixture[str]) -> None:

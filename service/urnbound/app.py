@@ -8,8 +8,10 @@ from flask import Flask
 
 from urnbound import __version__
 from urnbound.api import init_api
-from urnbound.api.caching import AnswerCache, CachePolicy
+from urnbound.api.caching import cache_policy
 from urnbound.api.metrics import build_metrics, multiprocess_dir_from_env
+from urnbound.api.queries import query_schemas
+from urnbound.api.schemas import answer_schemas
 from urnbound.api.state import EXTENSION_KEY, ServiceState
 from urnbound.config import Settings, setting_names
 
@@ -35,15 +37,13 @@ def create_app(config: Mapping[str, object] | None = None) -> Flask:
 
 
 def build_state(settings: Settings) -> ServiceState:
-    """Fresh state for one app: its own metrics registry and its own answer cache."""
+    """Fresh state for one app: its own metrics registry, caches and schema instances."""
     # The ETag covers the settings that change an answer's text, not only the version.
     answer_version = f"{__version__};exact_digit_limit={settings.exact_digit_limit}"
     return ServiceState(
         settings=settings,
         metrics=build_metrics(multiprocess_dir_from_env()),
-        caching=CachePolicy(
-            cache=AnswerCache(settings.cache_entries),
-            version=answer_version,
-            max_age=settings.cache_max_age,
-        ),
+        caching=cache_policy(settings.cache_entries, answer_version, settings.cache_max_age),
+        queries=query_schemas(),
+        answers=answer_schemas(),
     )

@@ -44,7 +44,7 @@ def test_normalized_spellings_share_etag_and_entry(client: FlaskClient, app: Fla
     first = client.get("/v1/collisions?bits=64&count=1e6")
     second = client.get("/v1/collisions?count=1000000&bits=64")
     assert first.headers["ETag"] == second.headers["ETag"]
-    assert len(state_of(app).caching.cache) == 1
+    assert len(state_of(app).caching.answers) == 1
     assert sample(app, "urnbound_answer_cache_total", result="hit") == 1
     assert sample(app, "urnbound_answer_cache_total", result="miss") == 1
     risk_a = client.get("/v1/capacity?bits=64&max_risk=1e-6").headers["ETag"]
@@ -91,7 +91,7 @@ def test_first_conditional_request_is_304_without_computing(app: Flask) -> None:
     fresh = create_app({"access_log": False, "TESTING": True})
     response = fresh.test_client().get(QUESTION, headers={"If-None-Match": etag})
     assert response.status_code == 304
-    assert len(state_of(fresh).caching.cache) == 0
+    assert len(state_of(fresh).caching.answers) == 0
     assert sample(fresh, "urnbound_answers_computed_total", endpoint="collisions",
                   method="exact") == 0
 
@@ -110,7 +110,7 @@ def test_errors_are_not_cached(client: FlaskClient, app: Flask) -> None:
     response = client.get("/v1/collisions?bits=0&count=1")
     assert response.status_code == 422
     assert "ETag" not in response.headers
-    assert len(state_of(app).caching.cache) == 0
+    assert len(state_of(app).caching.answers) == 0
 
 
 def test_cache_is_bounded_lru() -> None:
@@ -118,7 +118,7 @@ def test_cache_is_bounded_lru() -> None:
     client = app.test_client()
     for count in (1, 2, 3):
         client.get(f"/v1/collisions?bits=32&count={count}")
-    cache = state_of(app).caching.cache
+    cache = state_of(app).caching.answers
     assert len(cache) == 2
     client.get("/v1/collisions?bits=32&count=2")  # still held: a hit
     client.get("/v1/collisions?bits=32&count=1")  # evicted: a miss
@@ -133,9 +133,27 @@ def test_zero_entries_turns_caching_off_but_keeps_etags() -> None:
     second = client.get(QUESTION)
     assert first.data == second.data
     assert first.headers["ETag"] == second.headers["ETag"]
-    assert len(state_of(app).caching.cache) == 0
+    assert len(state_of(app).caching.answers) == 0
 
 
 def test_exact_digit_limit_is_part_of_the_tag(client: FlaskClient) -> None:
     other = create_app({"exact_digit_limit": 10, "access_log": False}).test_client()
     assert other.get(QUESTION).headers["ETag"] != client.get(QUESTION).headers["ETag"]
+
+
+def test_each_spelling_is_parsed_once_and_shares_the_answer(app: Flask) -> None:
+    client = app.test_client()
+    for _ in range(3):
+        client.get("/v1/collisions?bits=64&count=1e6")
+        client.get("/v1/collisions?bits=64&count=1000000")
+    caching = state_of(app).caching
+    assert len(caching.spellings) == 2
+    assert len(caching.answers) == 1
+    assert sample(app, "urnbound_answer_cache_total", result="hit") == 5
+
+
+def test_rejected_spellings_are_not_remembered(app: Flask) -> None:
+    client = app.test_client()
+    for _ in range(2):
+        assert client.get("/v1/collisions?bits=64&count=1e61").status_code == 422
+    assert len(state_of(app).caching.spellings) == 0

@@ -6,8 +6,8 @@ from flask import Blueprint, Response, request
 
 from urnbound.api.answering import cached_response
 from urnbound.api.caching import CachedAnswer, json_body
-from urnbound.api.queries import EmptyQuerySchema, load_query
-from urnbound.api.schemas import AlphabetListSchema
+from urnbound.api.queries import NoQuestion, load_query
+from urnbound.api.state import service_state
 from urnbound.domain.alphabets import NAMED_ALPHABETS
 
 blueprint = Blueprint("alphabets", __name__)
@@ -16,10 +16,14 @@ blueprint = Blueprint("alphabets", __name__)
 @blueprint.get("/v1/alphabets")
 def alphabets() -> Response:
     """Every named alphabet a question may use."""
-    load_query(EmptyQuerySchema(), request.args)
+    state = service_state()
 
-    def compute() -> CachedAnswer:
+    def load() -> NoQuestion:
+        question: NoQuestion = load_query(state.queries.empty, request.args)
+        return question
+
+    def compute(question: NoQuestion) -> CachedAnswer:
         document = {"alphabets": list(NAMED_ALPHABETS.values())}
-        return CachedAnswer(json_body(AlphabetListSchema().dump(document)))
+        return CachedAnswer(json_body(state.answers.alphabets.dump(document)))
 
-    return cached_response("alphabets", {}, compute)
+    return cached_response("alphabets", load, compute)

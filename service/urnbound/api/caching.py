@@ -6,13 +6,24 @@ import hashlib
 import json
 import threading
 from collections import OrderedDict
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Hashable, Mapping
 from dataclasses import dataclass, field
+from typing import Any, Generic, Protocol, TypeVar
 
 from flask import Response, request
 
 #: Media type of every answer body.
 JSON_MEDIA_TYPE = "application/json"
+
+K = TypeVar("K", bound=Hashable)
+V = TypeVar("V")
+Q = TypeVar("Q")
+
+
+class Normalizable(Protocol):
+    """A parsed question that can state itself in canonical form."""
+
+    def normalized(self) -> Mapping[str, object]: ...
 
 
 @dataclass(frozen=True, slots=True)
@@ -23,51 +34,52 @@ class CachedAnswer:
     method: str | None = None
 
 
-@dataclass(frozen=True, slots=True)
-class Question:
-    """A normalized question: the endpoint plus canonical JSON of its parsed inputs.
+def question_digest(version: str, endpoint: str, inputs: Mapping[str, object]) -> str:
+    """Hex SHA-256 of the service version, the endpoint and the normalized inputs.
 
-    Two requests that parse to the same values (``count=1e6`` and ``count=1000000``)
-    give equal questions, hence one cache entry and one ETag.
+    Inputs are written as sorted-key JSON with integers as decimal strings, so two
+    requests that parse to the same values (``count=1e6`` and ``count=1000000``) give
+    one digest, hence one cache entry and one ETag.
     """
+    canonical = json.dumps(_jsonable(inputs), sort_keys=True, separators=(",", ":"))
+    return hashlib.sha256(f"{version}\n{endpoint}\n{canonical}".encode()).hexdigest()
 
-    endpoint: str
-    canonical: str
 
-    @classmethod
-    def of(cls, endpoint: str, inputs: Mapping[str, object]) -> Question:
-        """Build from plain JSON-able inputs (ints are written as decimal strings)."""
-        text = json.dumps(_jsonable(inputs), sort_keys=True, separators=(",", ":"))
-        return cls(endpoint, text)
+@dataclass(frozen=True, slots=True)
+class KnownQuestion(Generic[Q]):
+    """A parsed question and the digest of its normalized form."""
 
-    def digest(self, version: str) -> str:
-        """Hex SHA-256 of the service version and the question."""
-        payload = f"{version}\n{self.endpoint}\n{self.canonical}".encode()
-        return hashlib.sha256(payload).hexdigest()
+    question: Q
+    digest: str
+
+    @property
+    def etag(self) -> str:
+        """The unquoted strong entity tag of the answer."""
+        return self.digest[:32]
 
 
 @dataclass(slots=True)
-class AnswerCache:
-    """Thread-safe LRU of answers, at most ``capacity`` entries (0 turns caching off)."""
+class LruCache(Generic[K, V]):
+    """Thread-safe LRU map of at most ``capacity`` entries (0 turns it off)."""
 
     capacity: int
-    _entries: OrderedDict[str, CachedAnswer] = field(default_factory=OrderedDict)
+    _entries: OrderedDict[K, V] = field(default_factory=OrderedDict)
     _lock: threading.Lock = field(default_factory=threading.Lock)
 
-    def get(self, key: str) -> CachedAnswer | None:
-        """The answer stored under ``key``, marked most recently used, or ``None``."""
+    def get(self, key: K) -> V | None:
+        """The value stored under ``key``, marked most recently used, or ``None``."""
         with self._lock:
-            answer = self._entries.get(key)
-            if answer is not None:
+            value = self._entries.get(key)
+            if value is not None:
                 self._entries.move_to_end(key)
-            return answer
+            return value
 
-    def put(self, key: str, answer: CachedAnswer) -> None:
-        """Store ``answer``, evicting the least recently used entries beyond capacity."""
+    def put(self, key: K, value: V) -> None:
+        """Store ``value``, evicting the least recently used entries beyond capacity."""
         if self.capacity <= 0:
             return
         with self._lock:
-            self._entries[key] = answer
+            self._entries[key] = value
             self._entries.move_to_end(key)
             while len(self._entries) > self.capacity:
                 self._entries.popitem(last=False)
@@ -79,25 +91,47 @@ class AnswerCache:
 
 @dataclass(frozen=True, slots=True)
 class CachePolicy:
-    """What the caching layer needs: the store, the version and the max-age."""
+    """The caching state of one app.
 
-    cache: AnswerCache
+    :ivar answers: normalized-question digest -> serialized answer.
+    :ivar spellings: (endpoint, raw query string) -> parsed question, so that a repeated
+        request skips parsing; parsing is a pure function of the query string.
+    :ivar version: service version plus the settings that change an answer's text.
+    :ivar max_age: seconds for ``Cache-Control: public, max-age``.
+    """
+
+    answers: LruCache[str, CachedAnswer]
+    spellings: LruCache[tuple[str, bytes], KnownQuestion[Any]]
     version: str
     max_age: int
 
 
-def strong_etag(question: Question, version: str) -> str:
-    """The unquoted strong entity tag of the answer to ``question``."""
-    return question.digest(version)[:32]
+def cache_policy(entries: int, version: str, max_age: int) -> CachePolicy:
+    """Empty caches of ``entries`` entries each."""
+    return CachePolicy(LruCache(entries), LruCache(entries), version, max_age)
+
+
+def known_question(
+    policy: CachePolicy, endpoint: str, query: bytes, load: Callable[[], Normalizable]
+) -> KnownQuestion[Any]:
+    """The parsed question of this query string, from the spelling cache or ``load``."""
+    key = (endpoint, query)
+    known = policy.spellings.get(key)
+    if known is None:
+        question = load()
+        digest = question_digest(policy.version, endpoint, question.normalized())
+        known = KnownQuestion(question, digest)
+        policy.spellings.put(key, known)
+    return known
 
 
 def conditional_answer(
     policy: CachePolicy,
-    question: Question,
+    known: KnownQuestion[Any],
     compute: Callable[[], CachedAnswer],
     on_lookup: Callable[[bool], None] | None = None,
 ) -> tuple[Response, CachedAnswer | None]:
-    """Answer ``question`` with caching headers.
+    """Answer ``known`` with caching headers.
 
     A matching ``If-None-Match`` (weak comparison, RFC 9110) gets a 304 without
     computing or looking up anything. Otherwise the LRU is asked first; ``compute``
@@ -105,25 +139,23 @@ def conditional_answer(
 
     :returns: the response and, when it was computed now, the fresh answer.
     """
-    etag = strong_etag(question, policy.version)
-    if request.if_none_match.contains_weak(etag):
-        return _with_cache_headers(Response(status=304), etag, policy.max_age), None
-    key = question.digest(policy.version)
-    answer = policy.cache.get(key)
+    if request.if_none_match.contains_weak(known.etag):
+        return _with_cache_headers(Response(status=304), known.etag, policy.max_age), None
+    answer = policy.answers.get(known.digest)
     if on_lookup is not None:
         on_lookup(answer is not None)
     fresh = None
     if answer is None:
         answer = fresh = compute()
-        policy.cache.put(key, answer)
+        policy.answers.put(known.digest, answer)
     response = Response(answer.body, status=200, mimetype=JSON_MEDIA_TYPE)
-    return _with_cache_headers(response, etag, policy.max_age), fresh
+    return _with_cache_headers(response, known.etag, policy.max_age), fresh
 
 
 def _with_cache_headers(response: Response, etag: str, max_age: int) -> Response:
-    response.set_etag(etag, weak=False)
-    response.cache_control.public = True
-    response.cache_control.max_age = max_age
+    # Plain header strings: the structured setters cost more than the whole cached answer.
+    response.headers["ETag"] = f'"{etag}"'
+    response.headers["Cache-Control"] = f"public, max-age={max_age}"
     return response
 
 

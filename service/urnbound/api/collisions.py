@@ -6,8 +6,7 @@ from flask import Blueprint, Response, request
 
 from urnbound.api.answering import cached_response
 from urnbound.api.caching import CachedAnswer, json_body
-from urnbound.api.queries import CollisionQuerySchema, CollisionQuestion, load_query
-from urnbound.api.schemas import CollisionSchema
+from urnbound.api.queries import CollisionQuestion, load_query
 from urnbound.api.state import service_state
 from urnbound.domain.questions import collision_report
 
@@ -17,11 +16,15 @@ blueprint = Blueprint("collisions", __name__)
 @blueprint.get("/v1/collisions")
 def collisions() -> Response:
     """Collision risk for ``count`` identifiers from one identifier space."""
-    question: CollisionQuestion = load_query(CollisionQuerySchema(), request.args)
-    limit = service_state().settings.exact_digit_limit
+    state = service_state()
+    limit = state.settings.exact_digit_limit
 
-    def compute() -> CachedAnswer:
+    def load() -> CollisionQuestion:
+        question: CollisionQuestion = load_query(state.queries.collisions, request.args)
+        return question
+
+    def compute(question: CollisionQuestion) -> CachedAnswer:
         report = collision_report(question.space, question.count, exact_digit_limit=limit)
-        return CachedAnswer(json_body(CollisionSchema().dump(report)), report.risk.method)
+        return CachedAnswer(json_body(state.answers.collision.dump(report)), report.risk.method)
 
-    return cached_response("collisions", question.normalized(), compute)
+    return cached_response("collisions", load, compute)

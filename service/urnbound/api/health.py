@@ -8,8 +8,7 @@ from dataclasses import dataclass
 from flask import Blueprint, Response, current_app, request
 
 from urnbound.api.problems import NOT_READY, problem_response, typed_problem
-from urnbound.api.queries import EmptyQuerySchema, load_query
-from urnbound.api.schemas import HealthSchema
+from urnbound.api.queries import load_query
 from urnbound.api.state import service_state
 from urnbound.domain.questions import collision_report
 from urnbound.domain.spaces import space_from_size
@@ -57,15 +56,17 @@ def no_store(document: dict[str, object], status: int = 200) -> Response:
 @blueprint.get("/healthz")
 def healthz() -> Response:
     """The process is alive and serving."""
-    load_query(EmptyQuerySchema(), request.args)
-    return no_store(HealthSchema().dump({"status": "ok"}))
+    state = service_state()
+    load_query(state.queries.empty, request.args)
+    return no_store(state.answers.health.dump({"status": "ok"}))
 
 
 @blueprint.get("/readyz")
 def readyz() -> Response:
     """The numerical core answers the self-checks correctly."""
-    load_query(EmptyQuerySchema(), request.args)
-    limit = service_state().settings.exact_digit_limit
+    state = service_state()
+    load_query(state.queries.empty, request.args)
+    limit = state.settings.exact_digit_limit
     outcomes = {check.name: _outcome(check, limit) for check in SELF_CHECKS}
     failed = sorted(name for name, outcome in outcomes.items() if outcome != "passed")
     if failed:
@@ -73,7 +74,7 @@ def readyz() -> Response:
         response = problem_response(typed_problem(NOT_READY, detail))
         response.cache_control.no_store = True
         return response
-    return no_store(HealthSchema().dump({"status": "ready", "checks": outcomes}))
+    return no_store(state.answers.health.dump({"status": "ready", "checks": outcomes}))
 
 
 def _outcome(check: SelfCheck, limit: int) -> str:

@@ -6,8 +6,7 @@ from flask import Blueprint, Response, request
 
 from urnbound.api.answering import cached_response
 from urnbound.api.caching import CachedAnswer, json_body
-from urnbound.api.queries import LengthQuerySchema, LengthQuestion, load_query
-from urnbound.api.schemas import LengthSchema
+from urnbound.api.queries import LengthQuestion, load_query
 from urnbound.api.state import service_state
 from urnbound.domain.questions import length_report
 
@@ -17,14 +16,18 @@ blueprint = Blueprint("lengths", __name__)
 @blueprint.get("/v1/lengths")
 def lengths() -> Response:
     """Shortest length for ``count`` identifiers at most ``max_risk`` of a collision."""
-    question: LengthQuestion = load_query(LengthQuerySchema(), request.args)
-    limit = service_state().settings.exact_digit_limit
+    state = service_state()
+    limit = state.settings.exact_digit_limit
 
-    def compute() -> CachedAnswer:
+    def load() -> LengthQuestion:
+        question: LengthQuestion = load_query(state.queries.lengths, request.args)
+        return question
+
+    def compute(question: LengthQuestion) -> CachedAnswer:
         report = length_report(
             question.alphabet, question.count, question.max_risk, exact_digit_limit=limit
         )
         method = report.answer.at_length.method
-        return CachedAnswer(json_body(LengthSchema().dump(report)), method)
+        return CachedAnswer(json_body(state.answers.length.dump(report)), method)
 
-    return cached_response("lengths", question.normalized(), compute)
+    return cached_response("lengths", load, compute)

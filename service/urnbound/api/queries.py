@@ -313,5 +313,35 @@ class LengthQuerySchema(QuerySchema):
         return LengthQuestion(alphabet_of(data), data["count"], data["max_risk"])
 
 
+@dataclass(frozen=True, slots=True)
+class NoQuestion:
+    """The question of an endpoint that takes no parameter."""
+
+    def normalized(self) -> dict[str, object]:
+        """Always empty."""
+        return {}
+
+
 class EmptyQuerySchema(QuerySchema):
     """Query of the endpoints that take no parameter."""
+
+    @post_load
+    def question(self, data: Mapping[str, Any], **kwargs: Any) -> NoQuestion:
+        return NoQuestion()
+
+
+@dataclass(frozen=True, slots=True)
+class QuerySchemas:
+    """One instance of each query schema, built once per app (building one is costly)."""
+
+    collisions: CollisionQuerySchema
+    lengths: LengthQuerySchema
+    capacity: CapacityQuerySchema
+    empty: EmptyQuerySchema
+
+
+def query_schemas() -> QuerySchemas:
+    """Fresh instances of the query schemas."""
+    return QuerySchemas(
+        CollisionQuerySchema(), LengthQuerySchema(), CapacityQuerySchema(), EmptyQuerySchema()
+    )

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 from typing import Any
 
 from marshmallow import Schema, fields, pre_dump
@@ -230,4 +231,22 @@ class ProblemSchema(Schema):
         keys=fields.String(),
         values=fields.List(fields.String()),
         metadata={"description": "Each field at fault -> messages stating form or range."},
+    )
+
+
+@dataclass(frozen=True, slots=True)
+class AnswerSchemas:
+    """One instance of each answer schema, built once per app."""
+
+    collision: CollisionSchema
+    length: LengthSchema
+    capacity: CapacitySchema
+    alphabets: AlphabetListSchema
+    health: HealthSchema
+
+
+def answer_schemas() -> AnswerSchemas:
+    """Fresh instances of the answer schemas."""
+    return AnswerSchemas(
+        CollisionSchema(), LengthSchema(), CapacitySchema(), AlphabetListSchema(), HealthSchema()
     )

@@ -8,6 +8,8 @@ from flask import current_app
 
 from urnbound.api.caching import CachePolicy
 from urnbound.api.metrics import Metrics
+from urnbound.api.queries import QuerySchemas
+from urnbound.api.schemas import AnswerSchemas
 from urnbound.config import Settings
 
 #: Key of the state in ``app.extensions``.
@@ -16,11 +18,13 @@ EXTENSION_KEY = "urnbound"
 
 @dataclass(frozen=True, slots=True)
 class ServiceState:
-    """Everything an app owns: settings, metrics and the answer cache policy."""
+    """Everything an app owns: settings, metrics, caches and schema instances."""
 
     settings: Settings
     metrics: Metrics
     caching: CachePolicy
+    queries: QuerySchemas
+    answers: AnswerSchemas
 
 
 def service_state() -> ServiceState:
