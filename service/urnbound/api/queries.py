@@ -87,7 +87,8 @@ def alphabet_size_field() -> Parsed:
 def alphabet_chars_field() -> Parsed:
     return _param(
         alphabets.alphabet_from_symbols,
-        "A literal set of distinct symbols (URL-encoded); a repeated symbol is an error.",
+        "A literal set of distinct symbols, URL-encoded (write + as %2B, or it reads as a "
+        "space); a repeated symbol is an error.",
         type="string", minLength=alphabets.MIN_ALPHABET_SIZE,
         maxLength=alphabets.MAX_ALPHABET_SIZE, example="0123456789abcdef",
     )

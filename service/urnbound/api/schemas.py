@@ -222,7 +222,15 @@ class HealthSchema(Schema):
 class ProblemSchema(Schema):
     """RFC 9457 problem details, sent with every 4xx and 5xx as application/problem+json."""
 
-    type = fields.String(required=True, metadata={"description": "URI reference of the kind."})
+    type = fields.String(
+        required=True,
+        metadata={
+            "description": "Kind of problem: /problems/invalid-query (422, see errors), "
+            "/problems/out-of-range (422, no answer within the service's limits), "
+            "/problems/no-convergence (500), /problems/not-ready (503), or about:blank "
+            "(the HTTP status says it all: 404, 405, 500)."
+        },
+    )
     title = fields.String(required=True)
     status = fields.Integer(required=True)
     detail = fields.String(required=True)
