@@ -5,6 +5,9 @@ from __future__ import annotations
 import pytest
 from flask import Flask
 from flask.testing import FlaskClient
+from hypothesis import example, given
+from hypothesis import settings as hypothesis_settings
+from hypothesis import strategies as st
 
 from urnbound.api.state import ServiceState
 from urnbound.app import create_app
@@ -157,3 +160,15 @@ def test_rejected_spellings_are_not_remembered(app: Flask) -> None:
     for _ in range(2):
         assert client.get("/v1/collisions?bits=64&count=1e61").status_code == 422
     assert len(state_of(app).caching.spellings) == 0
+
+
+@hypothesis_settings(max_examples=40, deadline=None)
+@given(mantissa=st.integers(min_value=1, max_value=999), exponent=st.integers(0, 40))
+@example(mantissa=1, exponent=6)
+def test_scientific_and_plain_spellings_share_one_tag(mantissa: int, exponent: int) -> None:
+    client = create_app({"access_log": False}).test_client()
+    plain = client.get(f"/v1/collisions?bits=128&count={mantissa * 10**exponent}")
+    scientific = client.get(f"/v1/collisions?bits=128&count={mantissa}e{exponent}")
+    assert plain.status_code == scientific.status_code == 200
+    assert plain.headers["ETag"] == scientific.headers["ETag"]
+    assert plain.data == scientific.data

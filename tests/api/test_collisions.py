@@ -136,6 +136,7 @@ def test_tiny_risk_never_underflows(client: FlaskClient, conforms: Conforms) -> 
         "alphabet_size=2&length=8&count=20",
         "alphabet=base16&length=2&count=20",
         "alphabet_chars=0123456789abcdef&length=2&count=20",
+        "alphabet_chars=01%2B-&length=4&count=20",  # %2B: a literal + symbol
     ],
 )
 def test_every_space_form_gives_the_same_risk(client: FlaskClient, query: str) -> None:
