@@ -173,7 +173,7 @@ def _space_form_errors(data: Mapping[str, Any]) -> dict[str, list[str]]:
         return _form_errors(given, SPACE_FORMS_TEXT, "space")
     (form,) = given
     if form in ALPHABET_FORMS and "length" not in data:
-        return {"length": [f"length is required with {form}; a whole number from 1"]}
+        return {"length": [f"length is required with {form}: a whole number from 1 to 8192"]}
     if form not in ALPHABET_FORMS and "length" in data:
         return {"length": [f"length goes with {ALPHABET_FORMS_TEXT.replace(';', ',')}, not {form}"]}
     return {}
