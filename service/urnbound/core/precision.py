@@ -234,9 +234,26 @@ def decimal_text(a: Real) -> str:
     return f"{sign}{text[0]}.{text[1:]}e{exponent}"
 
 
-def log10_value(a: Real, prec: int = 80) -> float:
-    """Base-10 logarithm of a positive value, as a float."""
-    return to_float(div(log(a, prec), ln10(prec), prec))
+_LOG10_2 = math.log10(2)
+
+
+def log10_value(a: Real, prec: int = 64) -> float:
+    """Base-10 logarithm of a positive value, as a float.
+
+    With a = f * 2**e and 1/2 <= f < 1, it is log10(f) + e * log10(2) in float
+    arithmetic, where both terms carry a relative error near 2**-53 and do not
+    cancel for |e| > 2; within a factor 4 of 1, the logarithm is taken at ``prec`` bits.
+
+    >>> log10_value(real(Fraction(1, 1000), 80))
+    -3.0
+    """
+    _sign, mantissa, exponent, bits = a
+    binary_exponent = int(exponent + bits)
+    if -2 <= binary_exponent <= 2:
+        return to_float(div(log(a, prec), ln10(prec), prec))
+    shift = max(0, bits - 64)
+    fraction = math.ldexp(float(mantissa >> shift), -(bits - shift))
+    return math.log10(fraction) + binary_exponent * _LOG10_2
 
 
 def magnitude_of_real(a: Real) -> Magnitude:
