@@ -8,6 +8,8 @@ from math import isqrt
 
 import mpmath
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from urnbound.core.limits import MAX_FRACTION_DIGITS
 from urnbound.core.pairwise import collision_risk
@@ -237,7 +239,9 @@ def count_label(size: int, count: int) -> str:
     if count < 10**6:
         return str(count)
     ratio = Fraction(count, isqrt(size))
-    return f"{float(ratio):g}sqrtN"
+    if ratio < 10**6:
+        return f"{float(ratio):g}sqrtN"
+    return f"~2^{count.bit_length()}"
 
 
 GRID = [(size, count) for size in LARGE_SIZES for count in grid_counts(size)]
@@ -286,3 +290,29 @@ def test_reference_methods_agree(size: int, count: int) -> None:
     assert abs(direct / gamma - 1) < mp.mpf(2) ** (-100)
     exact = 1 - exact_risk(size, count)
     assert abs(mp.exp(direct) / (mp.mpf(exact.numerator) / exact.denominator) - 1) < 1e-40
+
+
+@st.composite
+def random_points(draw: st.DrawFn) -> tuple[int, int]:
+    """A size anywhere from 2 to 2**4096 and a count in one of its regimes, up to N + 1."""
+    size = draw(st.integers(1, 4096).flatmap(lambda b: st.integers(2 ** (b - 1) + 1, 2**b)))
+    root = isqrt(size)
+    count = draw(
+        st.one_of(
+            st.integers(0, 100),
+            st.integers(0, 40 * root),
+            st.integers(max(size - 200, 0), size + 1),
+            st.integers(0, size + 1),
+        )
+    )
+    return size, count
+
+
+@settings(max_examples=80, deadline=None)
+@given(random_points())
+def test_random_points_against_mpmath(point: tuple[int, int]) -> None:
+    # reference: mpmath in a private context at 4*log2(N) + 200 bits (as the grid above)
+    size, count = point
+    ref = high_precision_risk(size, count)
+    check_against(collision_risk(size, count), ref, size, count)
+    check_against(collision_risk(size, count, exact_digit_limit=0), ref, size, count)

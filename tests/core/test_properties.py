@@ -296,3 +296,21 @@ def test_questions_outside_the_domain_are_refused(size: int, count: int, field: 
     with pytest.raises(DomainError) as caught:
         collision_risk(size, count)
     assert caught.value.field == field
+
+
+def test_targets_equal_to_the_risk_are_met() -> None:
+    # "at most r" is inclusive and compared exactly; references are sympy exact rationals
+    at_23 = exact_risk(365, 23)
+    assert largest_count(365, at_23).count == 23
+    assert largest_count(365, at_23 - MIN_RISK).count == 22
+    # two draws from 2**L values collide with probability exactly 2**-L
+    assert shortest_length(2, 2, Fraction(1, 2**10)).length == 10
+    assert shortest_length(2, 2, Fraction(1, 2**10) - MIN_RISK).length == 11
+    # three draws: 1 - (1 - 1/N)(1 - 2/N) = 3/N - 2/N**2
+    three = Fraction(3, 2**20) - Fraction(2, 2**40)
+    assert three == exact_risk(2**20, 3)
+    assert fewest_bits(3, three).length == 20
+    assert fewest_bits(3, three - MIN_RISK).length == 21
+    big = 2**200
+    assert largest_count(big, Fraction(3, big) - Fraction(2, big**2)).count == 3
+    assert largest_count(big, Fraction(3, big) - Fraction(2, big**2) - MIN_RISK).count == 2
