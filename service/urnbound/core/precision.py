@@ -109,14 +109,22 @@ def scale2(a: Real, power: int) -> Real:
 
 
 def to_float(a: Real) -> float:
-    """Nearest float64; ``0.0`` on underflow and ``inf`` on overflow."""
-    if is_zero(a):
+    """Nearest float64; ``0.0`` on underflow and ``inf`` on overflow.
+
+    >>> to_float(real(Fraction(1, 3), 200)) == 1 / 3
+    True
+    """
+    sign, mantissa, exponent, bits = a
+    if not mantissa:
         return 0.0
-    bits = magnitude_bits(a)
-    if bits < -1100:
-        return -0.0 if a[0] else 0.0
-    if bits > 1025:
-        return -math.inf if a[0] else math.inf
+    top = exponent + bits
+    if top < -1100:
+        return -0.0 if sign else 0.0
+    if top > 1025:
+        return -math.inf if sign else math.inf
+    if bits <= 53 and top > -1020:  # mantissa exact in a float; ldexp exact for normals
+        value = math.ldexp(float(mantissa), int(exponent))
+        return -value if sign else value
     return float(libmp.to_float(a, rnd=NEAREST))
 
 
@@ -217,14 +225,53 @@ def expm1(y: Real, prec: int) -> Real:
     return sub(exp(y, work), ONE, prec)
 
 
+#: Beyond this decimal exponent, decimal text is formed by mpmath's general conversion.
+_INTEGER_DECIMAL_LIMIT = 20_000
+
+
 def decimal_text(a: Real) -> str:
     """Scientific text with DECIMAL_DIGITS significant digits, never underflowing.
 
+    Correctly rounded (half to even) from the binary value, by integer arithmetic,
+    while the decimal exponent is moderate; beyond that, from mpmath's conversion
+    with six guard digits.
+
     >>> decimal_text(real(Fraction(1, 3), 200))
     '3.3333333333333333333e-1'
+    >>> decimal_text(real(Fraction(1, 8), 53))
+    '1.2500000000000000000e-1'
     """
     if is_zero(a):
         return "0"
+    sign, mantissa, exponent, bits = a
+    if abs(exponent + bits) > 4 * _INTEGER_DECIMAL_LIMIT:
+        return _decimal_text_general(a)
+    estimate = math.floor(log10_value(libmp.mpf_abs(a)))
+    for decimal_exponent in (estimate, estimate - 1, estimate + 1):
+        shift = DECIMAL_DIGITS - 1 - decimal_exponent
+        digits = _rounded_digits(int(mantissa), int(exponent), shift)
+        if 10 ** (DECIMAL_DIGITS - 1) <= digits < 10**DECIMAL_DIGITS:
+            text = str(digits)
+            return f"{'-' if sign else ''}{text[0]}.{text[1:]}e{decimal_exponent}"
+    return _decimal_text_general(a)  # unreachable: the estimate is within one
+
+
+def _rounded_digits(mantissa: int, exponent: int, shift: int) -> int:
+    """round(mantissa * 2**exponent * 10**shift), half to even, in integers."""
+    numerator = mantissa * 10 ** max(shift, 0)
+    denominator = 10 ** max(-shift, 0)
+    if exponent >= 0:
+        numerator <<= exponent
+    else:
+        denominator <<= -exponent
+    quotient, remainder = divmod(numerator, denominator)
+    twice = 2 * remainder
+    if twice > denominator or (twice == denominator and quotient % 2 == 1):
+        quotient += 1
+    return int(quotient)
+
+
+def _decimal_text_general(a: Real) -> str:
     sign, digits, exponent = libmp.to_digits_exp(a, DECIMAL_DIGITS + 6)
     kept = int(digits[:DECIMAL_DIGITS]) + (1 if digits[DECIMAL_DIGITS] >= "5" else 0)
     text = str(kept)
@@ -251,6 +298,8 @@ def log10_value(a: Real, prec: int = 64) -> float:
     binary_exponent = int(exponent + bits)
     if -2 <= binary_exponent <= 2:
         return to_float(div(log(a, prec), ln10(prec), prec))
+    if abs(binary_exponent) > 2**1000:
+        return math.inf if binary_exponent > 0 else -math.inf
     shift = max(0, bits - 64)
     fraction = math.ldexp(float(mantissa >> shift), -(bits - shift))
     return math.log10(fraction) + binary_exponent * _LOG10_2

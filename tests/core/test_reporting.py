@@ -1,0 +1,62 @@
+"""Decimal text, floats and log10 of reported numbers, held against the standard library."""
+
+from __future__ import annotations
+
+import decimal
+import math
+from fractions import Fraction
+
+from hypothesis import example, given, settings
+from hypothesis import strategies as st
+from mpmath import libmp
+
+from urnbound.core import precision as mp
+from urnbound.core.exact import decimal_of_fraction, magnitude_of_fraction
+
+
+def _stdlib_decimal_text(numerator: int, denominator: int) -> str:
+    """20 significant digits, half to even, by Python's decimal module (an independent path)."""
+    context = decimal.Context(prec=20, rounding=decimal.ROUND_HALF_EVEN, Emin=-10**8,
+                              Emax=10**8)
+    exact = decimal.Context(prec=10**5, Emin=-10**8, Emax=10**8)
+    value = context.divide(exact.create_decimal(numerator), exact.create_decimal(denominator))
+    sign, digits, exponent = value.as_tuple()
+    text = "".join(map(str, digits)).ljust(20, "0")
+    return f"{text[0]}.{text[1:]}e{exponent + len(digits) - 1}"
+
+
+binary_values = st.tuples(st.integers(1, 2**120), st.integers(-3000, 3000))
+
+
+@settings(max_examples=300, deadline=None)
+@given(binary_values)
+@example((1, -1))
+@example((2**53 + 1, -1100))
+@example((5, 0))
+def test_decimal_text_is_correctly_rounded(value: tuple[int, int]) -> None:
+    mantissa, exponent = value
+    numerator, denominator = mantissa << max(exponent, 0), 1 << max(-exponent, 0)
+    expected = _stdlib_decimal_text(numerator, denominator)
+    assert mp.decimal_text(libmp.from_man_exp(mantissa, exponent)) == expected
+    assert decimal_of_fraction(numerator, denominator) == expected
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.integers(1, 10**40), st.integers(1, 10**40))
+def test_fraction_report_matches_float_and_log10(numerator: int, denominator: int) -> None:
+    report = magnitude_of_fraction(numerator, denominator)
+    assert report.value == numerator / denominator  # Python's int division is correctly rounded
+    assert report.log10 is not None
+    truth = math.log10(numerator) - math.log10(denominator)
+    assert math.isclose(report.log10, truth, rel_tol=1e-12, abs_tol=1e-12)
+
+
+def test_tiny_values_keep_text_and_log10_when_the_float_underflows() -> None:
+    tiny = libmp.from_man_exp(3, -5000)  # 3 * 2**-5000, far below the float range
+    report = mp.magnitude_of_real(tiny)
+    assert report.value == 0.0
+    assert report.decimal.endswith("e-1505")
+    assert report.log10 is not None
+    # log10(3) - 5000 log10(2), from the standard library's own logarithms
+    assert math.isclose(report.log10, math.log10(3) - 5000 * math.log10(2), rel_tol=1e-14)
+    assert Fraction(report.decimal.replace("e", "E")) > 0
