@@ -71,3 +71,14 @@ def test_boundary_brackets_the_target(client: FlaskClient) -> None:
     body = client.get(f"{PATH}?alphabet=base32&length=13&max_risk=1e-9").get_json()
     assert body["collision"]["value"] <= 1e-9 < body["collision_one_more"]["value"]
     assert body["space"]["description"] == "base32 alphabet (32 symbols), length 13"
+
+
+def test_answer_names_its_method_and_bound(client: FlaskClient, conforms: Conforms) -> None:
+    # 365 values: answered exactly (small); 2^64 values at 1e-6: the expansion.
+    small = client.get(f"{PATH}?size=365&max_risk=0.5").get_json()
+    assert (small["method"], small["relative_error_bound"]) == ("exact", 0.0)
+    response = client.get(f"{PATH}?bits=64&max_risk=1e-6")
+    conforms(response, PATH)
+    large = response.get_json()
+    assert large["method"] == "asymptotic"
+    assert 0.0 < large["relative_error_bound"] < 1e-15

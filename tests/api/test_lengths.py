@@ -82,3 +82,12 @@ def test_smallest_risk_and_largest_count(client: FlaskClient, conforms: Conforms
     assert response.status_code == 200
     conforms(response, PATH)
     assert response.get_json()["collision"]["log10"] <= -300
+
+
+def test_answer_names_its_method_and_bound(client: FlaskClient) -> None:
+    # 2 symbols and 3 identifiers: tiny spaces are answered exactly.
+    small = client.get("/v1/lengths?alphabet_size=2&count=3&max_risk=0.5").get_json()
+    assert (small["method"], small["relative_error_bound"]) == ("exact", 0.0)
+    large = client.get("/v1/lengths?alphabet=base64url&count=1e12&max_risk=1e-9").get_json()
+    assert large["method"] == "asymptotic"
+    assert 0.0 < large["relative_error_bound"] < 1e-15

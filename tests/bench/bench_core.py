@@ -107,7 +107,7 @@ def exact_edge_table() -> float:
         print(f"| {label}, n = {count:,} | {exact * 1e3:.2f} | {asym * 1e3:.3f} | "
               f"{exact / asym:.0f} | {exact * 1e3 / EXACT_TARGET_MS:.2f} |")
     rational = median_seconds(lambda: exact_risk(2**64, _largest_exact_count(2**64)), 5)
-    print(f"\n(of which forming and reducing the fraction alone, N = 2^64: {rational * 1e3:.2f} ms)")
+    print(f"\n(forming and reducing the fraction alone, N = 2^64: {rational * 1e3:.2f} ms)")
     return worst
 
 

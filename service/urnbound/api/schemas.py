@@ -41,7 +41,7 @@ class MagnitudeSchema(Schema):
         metadata={
             "description": "Scientific text with 20 significant digits that never "
             'underflows, or "0" for an exact zero.',
-            "example": "5.0729723432398540080e-1",
+            "example": "5.0729723432398540723e-1",
         },
     )
     log10 = FiniteFloat(
@@ -149,6 +149,30 @@ def _collision_of(risk: CollisionRisk | None) -> Magnitude | None:
     return None if risk is None else risk.collision
 
 
+def _method_field() -> fields.String:
+    return fields.String(
+        required=True,
+        metadata={"enum": ["exact", "asymptotic"],
+                  "description": "Which path computed the risk at the answer."},
+    )
+
+
+def _bound_field() -> fields.Float:
+    return fields.Float(
+        required=True,
+        metadata={"description": "Bound on the relative error of the decimal texts of both "
+                                 "reported risks (0 when both are exact)."},
+    )
+
+
+def _boundary_figures(answer: CollisionRisk, neighbour: CollisionRisk | None) -> dict[str, Any]:
+    """method and error bound of an inverse answer's two reported risks."""
+    bounds = [answer.relative_error_bound]
+    if neighbour is not None:
+        bounds.append(neighbour.relative_error_bound)
+    return {"method": answer.method, "relative_error_bound": max(bounds)}
+
+
 class LengthSchema(Schema):
     """Answer of GET /v1/lengths."""
 
@@ -160,17 +184,21 @@ class LengthSchema(Schema):
     )
     space = fields.Nested(SpaceSchema, required=True)
     count = WholeText(required=True, metadata={"description": "Identifiers drawn."})
+    method = _method_field()
+    relative_error_bound = _bound_field()
     assumptions = _assumptions()
 
     @pre_dump
     def flatten(self, report: Any, **kwargs: Any) -> dict[str, Any]:
+        answer = report.answer
         return {
-            "length": report.answer.length,
+            "length": answer.length,
             "entropy_bits": report.space.bits,
-            "collision": report.answer.at_length.collision,
-            "collision_one_shorter": _collision_of(report.answer.one_shorter),
+            "collision": answer.at_length.collision,
+            "collision_one_shorter": _collision_of(answer.one_shorter),
             "space": report.space,
             "count": report.count,
+            **_boundary_figures(answer.at_length, answer.one_shorter),
         }
 
 
@@ -181,15 +209,19 @@ class CapacitySchema(Schema):
     collision = _probability("Risk at that count.")
     collision_one_more = _probability("Risk with one identifier more (above max_risk).")
     space = fields.Nested(SpaceSchema, required=True)
+    method = _method_field()
+    relative_error_bound = _bound_field()
     assumptions = _assumptions()
 
     @pre_dump
     def flatten(self, report: Any, **kwargs: Any) -> dict[str, Any]:
+        answer = report.answer
         return {
-            "count": report.answer.count,
-            "collision": report.answer.at_count.collision,
-            "collision_one_more": report.answer.one_more.collision,
+            "count": answer.count,
+            "collision": answer.at_count.collision,
+            "collision_one_more": answer.one_more.collision,
             "space": report.space,
+            **_boundary_figures(answer.at_count, answer.one_more),
         }
 
 
