@@ -85,6 +85,23 @@ class Tally:
 
 
 @dataclass(frozen=True, slots=True)
+class Server:
+    """The benchmarked gunicorn: its port, and the pid of its master process."""
+
+    port: int
+    pid: int
+
+
+@dataclass(frozen=True, slots=True)
+class Phase:
+    """One phase: requests per second, failures, and server CPU seconds per answered request."""
+
+    rate: float
+    errors: int
+    cpu_per_request_s: float | None
+
+
+@dataclass(frozen=True, slots=True)
 class Options:
     """Command-line options."""
 
@@ -154,13 +171,13 @@ def warm_up_client(_: int) -> int:
 
 
 def run_phase(
-    pool: ProcessPoolExecutor, options: Options, port: int, template: str, first_number: int
-) -> tuple[float, int]:
-    """Requests per second and error count of one phase with every client busy."""
+    pool: ProcessPoolExecutor, options: Options, server: Server, template: str, first_number: int
+) -> Phase:
+    """Rate, failures and server CPU cost of one phase with every client busy."""
     start_at = time.time() + 0.3
     jobs = [
         Job(
-            port=port,
+            port=server.port,
             template=template,
             # Disjoint number ranges per client, so that no two requests repeat a count.
             first_number=first_number + index * 10 * options.max_requests,
@@ -170,12 +187,47 @@ def run_phase(
         )
         for index in range(options.clients)
     ]
+    cpu_before = workers_cpu_seconds(server.pid)
     futures = [pool.submit(drive, job) for job in jobs]
     limit = options.duration_s + REQUEST_TIMEOUT_S + 30.0
     tallies = [future.result(timeout=limit) for future in futures]
+    cpu_after = workers_cpu_seconds(server.pid)
     elapsed = max(tally.elapsed_s for tally in tallies)
     completed = sum(tally.completed for tally in tallies)
-    return completed / elapsed, sum(tally.errors for tally in tallies)
+    cpu = None
+    if cpu_before is not None and cpu_after is not None and completed:
+        cpu = (cpu_after - cpu_before) / completed
+    return Phase(completed / elapsed, sum(tally.errors for tally in tallies), cpu)
+
+
+def process_times(pid: int) -> tuple[int, float] | None:
+    """(parent pid, CPU seconds of the process plus its reaped children) from /proc, if any."""
+    try:
+        with open(f"/proc/{pid}/stat", encoding="ascii", errors="replace") as stat:
+            text = stat.read()
+    except OSError:
+        return None
+    # Fields after the parenthesised command name: state, ppid, ... utime, stime, cutime,
+    # cstime at positions 11..14 (proc(5)).
+    fields = text[text.rindex(")") + 2 :].split()
+    ticks = sum(int(value) for value in fields[11:15])
+    return int(fields[1]), ticks / os.sysconf("SC_CLK_TCK")
+
+
+def workers_cpu_seconds(master_pid: int) -> float | None:
+    """CPU seconds used so far by gunicorn's workers, live and exited (Linux only)."""
+    master = process_times(master_pid)
+    if master is None or not os.path.isdir("/proc"):
+        return None
+    # The master's own share is small (it only supervises); exited workers are in its
+    # children's times, so a worker recycled by max_requests is not lost.
+    total = master[1]
+    for entry in os.listdir("/proc"):
+        if entry.isdigit():
+            times = process_times(int(entry))
+            if times is not None and times[0] == master_pid:
+                total += times[1]
+    return total
 
 
 def fetch(port: int, path: str) -> tuple[int, str]:
@@ -188,11 +240,11 @@ def fetch(port: int, path: str) -> tuple[int, str]:
         return 0, ""
 
 
-def cache_lookups(port: int) -> dict[str, float]:
+def cache_lookups(server: Server) -> dict[str, float]:
     """Answer-cache lookups so far (result label -> count), summed over workers by /metrics."""
     from prometheus_client.parser import text_string_to_metric_families
 
-    status, text = fetch(port, "/metrics")
+    status, text = fetch(server.port, "/metrics")
     totals: dict[str, float] = {}
     if status != 200:
         return totals
@@ -236,8 +288,8 @@ def gunicorn_environment(port: int, metrics_dir: str, workers: int | None) -> di
 
 
 @contextmanager
-def running_gunicorn(options: Options, work_dir: str) -> Iterator[int]:
-    """Start gunicorn on a free loopback port, yield the port, always stop it."""
+def running_gunicorn(options: Options, work_dir: str) -> Iterator[Server]:
+    """Start gunicorn on a free loopback port, yield it, always stop it."""
     port = free_port()
     metrics_dir = os.path.join(work_dir, "metrics")
     os.mkdir(metrics_dir)
@@ -255,7 +307,7 @@ def running_gunicorn(options: Options, work_dir: str) -> Iterator[int]:
         )
     try:
         wait_until_ready(process, port, log_path)
-        yield port
+        yield Server(port, process.pid)
     finally:
         stop(process)
 
@@ -292,47 +344,52 @@ def worker_count(options: Options) -> int:
     return int(settings["workers"])
 
 
-def check_answers(port: int, chosen: Sequence[Scenario]) -> None:
+def check_answers(server: Server, chosen: Sequence[Scenario]) -> None:
     """Exit unless every endpoint answers 200 before any timing starts."""
     for scenario in chosen:
         path = scenario.template.format(n=10**9 + 7)
-        status, _ = fetch(port, path)
+        status, _ = fetch(server.port, path)
         if status != 200:
             sys.exit(f"{path} answered {status or 'nothing'}; nothing was measured")
 
 
 @dataclass(frozen=True, slots=True)
 class Measurements:
-    """Requests per second by scenario key (one figure per round), errors, cache lookups."""
+    """Per scenario key, one figure per round: requests per second and server CPU seconds per
+    request (empty when /proc is unavailable); failed requests; cache lookups of first answers.
+    """
 
     rates: dict[str, list[float]]
+    cpu: dict[str, list[float]]
     errors: int
     first_answer_lookups: dict[str, float]
 
 
-def measure(options: Options, port: int, chosen: Sequence[Scenario]) -> Measurements:
+def measure(options: Options, server: Server, chosen: Sequence[Scenario]) -> Measurements:
     """Warm up, then run ``rounds`` rounds of every scenario, rotating their order."""
-    rates: dict[str, list[float]] = {scenario.key: [] for scenario in chosen}
+    measured = Measurements({s.key: [] for s in chosen}, {s.key: [] for s in chosen}, 0, {})
     errors = 0
-    lookups: dict[str, float] = {}
     # Counts above anything the cached question or the warm-up uses, unique across the run.
     numbers = itertools.count(options.count + 10**6, 10 * options.max_requests * options.clients)
     with ProcessPoolExecutor(max_workers=options.clients, mp_context=get_context("spawn")) as pool:
         list(pool.map(warm_up_client, range(options.clients)))
         warm = replace(options, duration_s=min(1.0, options.duration_s))
         for scenario in chosen:
-            run_phase(pool, warm, port, scenario.template, next(numbers))
+            run_phase(pool, warm, server, scenario.template, next(numbers))
         for index in range(options.rounds):
             # Rotating the order keeps a slow moment of the machine off any one scenario.
             for scenario in [*chosen[index % len(chosen) :], *chosen[: index % len(chosen)]]:
-                before = cache_lookups(port) if scenario.key == "first" else None
-                rate, failed = run_phase(pool, options, port, scenario.template, next(numbers))
-                rates[scenario.key].append(rate)
-                errors += failed
+                before = cache_lookups(server) if scenario.key == "first" else None
+                phase = run_phase(pool, options, server, scenario.template, next(numbers))
+                measured.rates[scenario.key].append(phase.rate)
+                if phase.cpu_per_request_s is not None:
+                    measured.cpu[scenario.key].append(phase.cpu_per_request_s)
+                errors += phase.errors
                 if before is not None:
-                    for result, value in cache_lookups(port).items():
+                    lookups = measured.first_answer_lookups
+                    for result, value in cache_lookups(server).items():
                         lookups[result] = lookups.get(result, 0.0) + value - before.get(result, 0)
-    return Measurements(rates, errors, lookups)
+    return replace(measured, errors=errors)
 
 
 def ratio_to_empty(measured: Measurements, key: str) -> float:
@@ -350,12 +407,21 @@ def percent(value: float) -> str:
     return f"{100 * value:.0f} %"
 
 
+def cpu_columns(measured: Measurements, key: str) -> tuple[str, str]:
+    """Median server CPU per request, and the rate ratio that CPU cost alone would allow."""
+    costs, floors = measured.cpu[key], measured.cpu["empty"]
+    if not costs or len(costs) != len(floors):
+        return "n/a", "n/a"
+    implied = statistics.median(floor / cost for cost, floor in zip(costs, floors, strict=True))
+    return f"{1e3 * statistics.median(costs):.2f} ms", percent(implied)
+
+
 def table(chosen: Sequence[Scenario], measured: Measurements, rounds: int) -> list[str]:
-    """The markdown table: median requests per second, ratio to empty, target."""
-    medians = {key: statistics.median(values) for key, values in measured.rates.items()}
+    """The markdown table: rates, ratio to empty, target, and server CPU per request."""
     lines = [
-        f"| Endpoint | Request | Requests/s (median of {rounds}) | Range | vs empty | Target |",
-        "|---|---|---:|---:|---:|---|",
+        f"| Endpoint | Request | Requests/s (median of {rounds}) | Range | vs empty | Target "
+        "| Server CPU/request | vs empty by CPU |",
+        "|---|---|---:|---:|---:|---|---:|---:|",
     ]
     for scenario in chosen:
         values = measured.rates[scenario.key]
@@ -365,9 +431,11 @@ def table(chosen: Sequence[Scenario], measured: Measurements, rounds: int) -> li
         else:
             verdict = "met" if ratio >= scenario.target else "MISSED"
             target = f">= {percent(scenario.target)} ({verdict})"
+        cpu, by_cpu = cpu_columns(measured, scenario.key)
         lines.append(
-            f"| {scenario.label} | `{scenario.shown}` | {medians[scenario.key]:,.0f} "
-            f"| {min(values):,.0f}-{max(values):,.0f} | {percent(ratio)} | {target} |"
+            f"| {scenario.label} | `{scenario.shown}` | {statistics.median(values):,.0f} "
+            f"| {min(values):,.0f}-{max(values):,.0f} | {percent(ratio)} | {target} "
+            f"| {cpu} | {by_cpu} |"
         )
     return lines
 
@@ -406,11 +474,13 @@ def report(options: Options, chosen: Sequence[Scenario], measured: Measurements)
         print(f"Answer cache during first-answer phases: {misses:,.0f} misses, {hits:,.0f} hits.")
     print(
         "vs empty: median over rounds of the rate divided by the empty endpoint's rate in the "
-        "same round."
+        "same round. Server CPU/request: CPU time of all gunicorn workers (from /proc) per "
+        "answered request; vs empty by CPU: the rate ratio if that cost were the only limit."
     )
     print(
-        "Server and load generator share the machine; the load's fixed cost per request "
-        "narrows the gaps, so compare ratios from one run, not figures across machines."
+        "Server and load generator share the machine; the load's own cost per request is the "
+        "same for every endpoint and narrows the rate gaps, which the CPU columns leave out. "
+        "Compare ratios from one run, not figures across machines."
     )
     if measured.errors:
         print(f"WARNING: {measured.errors} requests failed or did not answer 200.")
@@ -462,9 +532,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     options = parse_options(argv)
     chosen = scenarios(options.bits, options.count)
     with tempfile.TemporaryDirectory(prefix="urnbound-bench-") as work_dir:
-        with running_gunicorn(options, work_dir) as port:
-            check_answers(port, chosen)
-            measured = measure(options, port, chosen)
+        with running_gunicorn(options, work_dir) as server:
+            check_answers(server, chosen)
+            measured = measure(options, server, chosen)
     report(options, chosen, measured)
     if measured.errors:
         return 1
