@@ -138,7 +138,11 @@ def scenarios(bits: int, count: int) -> tuple[Scenario, ...]:
 
 
 def drive(job: Job) -> Tally:
-    """Send requests one after another on a keep-alive client until time or count runs out."""
+    """Send requests one after another until time or count runs out.
+
+    The HTTP/1.1 client asks for keep-alive; gunicorn's sync workers close each connection
+    anyway, and the client reconnects, so every endpoint pays the same connection cost.
+    """
     connection = http.client.HTTPConnection(HOST, job.port, timeout=REQUEST_TIMEOUT_S)
     time.sleep(max(0.0, job.start_at - time.time()))
     deadline = job.start_at + job.duration_s
