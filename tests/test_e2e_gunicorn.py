@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import os
 import signal
 import socket
@@ -83,7 +84,8 @@ def stop(process: subprocess.Popen[bytes]) -> None:
     try:
         process.wait(timeout=SHUTDOWN_TIMEOUT_S)
     except subprocess.TimeoutExpired:
-        os.killpg(process.pid, signal.SIGKILL)
+        with contextlib.suppress(ProcessLookupError):
+            os.killpg(process.pid, signal.SIGKILL)
         process.wait(timeout=SHUTDOWN_TIMEOUT_S)
 
 

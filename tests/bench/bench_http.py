@@ -22,6 +22,7 @@ gunicorn itself.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import http.client
 import itertools
 import os
@@ -334,7 +335,8 @@ def stop(process: subprocess.Popen[bytes]) -> None:
     try:
         process.wait(timeout=30)
     except subprocess.TimeoutExpired:
-        os.killpg(process.pid, signal.SIGKILL)
+        with contextlib.suppress(ProcessLookupError):
+            os.killpg(process.pid, signal.SIGKILL)
         process.wait(timeout=30)
 
 
