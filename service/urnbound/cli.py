@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import os
 import sys
+import tempfile
 from pathlib import Path
 
 import click
@@ -80,10 +81,14 @@ def gunicorn_argv(config: Path, extra: tuple[str, ...]) -> list[str]:
 def serve(config: Path | None, gunicorn_args: tuple[str, ...]) -> None:
     """Replace this process with gunicorn serving the service.
 
-    Settings come from URNBOUND_* variables; extra arguments go to gunicorn.
+    Settings come from URNBOUND_* variables; extra arguments go to gunicorn. Unless
+    PROMETHEUS_MULTIPROC_DIR is already set, a fresh empty directory is made for it, so
+    that /metrics adds up every worker's counts.
     """
     conf = config or default_gunicorn_conf()
     if not conf.is_file():
         raise click.ClickException(f"gunicorn configuration not found at {conf}; use --config")
+    if not os.environ.get("PROMETHEUS_MULTIPROC_DIR"):
+        os.environ["PROMETHEUS_MULTIPROC_DIR"] = tempfile.mkdtemp(prefix="urnbound-metrics-")
     argv = gunicorn_argv(conf, gunicorn_args)
     os.execv(argv[0], argv)
