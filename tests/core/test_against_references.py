@@ -297,15 +297,9 @@ def random_points(draw: st.DrawFn) -> tuple[int, int]:
     """A size anywhere from 2 to 2**4096 and a count in one of its regimes, up to N + 1."""
     size = draw(st.integers(1, 4096).flatmap(lambda b: st.integers(2 ** (b - 1) + 1, 2**b)))
     root = isqrt(size)
-    count = draw(
-        st.one_of(
-            st.integers(0, 100),
-            st.integers(0, 40 * root),
-            st.integers(max(size - 200, 0), size + 1),
-            st.integers(0, size + 1),
-        )
-    )
-    return size, count
+    ranges = [(0, 100), (0, 40 * root), (max(size - 200, 0), size + 1), (0, size + 1)]
+    low, high = ranges[draw(st.integers(0, len(ranges) - 1))]
+    return size, draw(st.integers(low, high))
 
 
 @settings(max_examples=80, deadline=None)

@@ -43,14 +43,14 @@ targets = st.one_of(
 def counts_for(draw: st.DrawFn, size: int) -> int:
     """Counts that reach every regime of the risk for this size: tiny, ~sqrt(N), ~N."""
     root = isqrt(size)
-    return draw(
-        st.one_of(
-            st.integers(0, 70),
-            st.integers(0, 64 * root + 1),
-            st.integers(max(size - 70, 0), size + 1),
-            st.integers(0, min(size + 1, 10**60)),
-        )
-    )
+    ranges = [
+        (0, 70),
+        (0, 64 * root + 1),
+        (max(size - 70, 0), size + 1),
+        (0, min(size + 1, 10**60)),
+    ]
+    low, high = ranges[draw(st.integers(0, len(ranges) - 1))]
+    return draw(st.integers(low, high))
 
 
 @st.composite

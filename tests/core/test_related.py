@@ -9,6 +9,8 @@ from math import isqrt
 import mpmath
 import pytest
 import sympy
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from urnbound.core.pairwise import collision_risk, related_figures
 from urnbound.core.results import Magnitude, RelatedFigures
@@ -135,6 +137,25 @@ def point_id(point: tuple[int, int]) -> str:
 
 @pytest.mark.parametrize("point", LARGE_POINTS, ids=point_id)
 def test_large_sizes_against_mpmath(point: tuple[int, int]) -> None:
+    check_against_mpmath(point)
+
+
+@st.composite
+def random_points(draw: st.DrawFn) -> tuple[int, int]:
+    """Any size from 1 to 2**8192 and a count up to 10**60 in one of its regimes."""
+    size = draw(st.integers(0, 8192).flatmap(lambda b: st.integers(2 ** max(b - 1, 0), 2**b)))
+    ranges = [(0, 100), (0, 40 * isqrt(size)), (max(size - 100, 0), size + 100), (0, 10**60)]
+    low, high = ranges[draw(st.integers(0, len(ranges) - 1))]
+    return size, draw(st.integers(low, high))
+
+
+@settings(max_examples=60, deadline=None)
+@given(random_points())
+def test_random_points_against_mpmath(point: tuple[int, int]) -> None:
+    check_against_mpmath(point)
+
+
+def check_against_mpmath(point: tuple[int, int]) -> None:
     # reference: mpmath, private context at 2 log2 N + 2 log2 n + 200 bits:
     # distinct = -N expm1(n log1p(-1/N)), duplicates = n - distinct, pairs = n(n-1)/(2N)
     size, count = point
