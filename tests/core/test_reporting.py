@@ -16,9 +16,8 @@ from urnbound.core.exact import decimal_of_fraction, magnitude_of_fraction
 
 def _stdlib_decimal_text(numerator: int, denominator: int) -> str:
     """20 significant digits, half to even, by Python's decimal module (an independent path)."""
-    context = decimal.Context(prec=20, rounding=decimal.ROUND_HALF_EVEN, Emin=-10**8,
-                              Emax=10**8)
-    exact = decimal.Context(prec=10**5, Emin=-10**8, Emax=10**8)
+    context = decimal.Context(prec=20, rounding=decimal.ROUND_HALF_EVEN, Emin=-(10**8), Emax=10**8)
+    exact = decimal.Context(prec=10**5, Emin=-(10**8), Emax=10**8)
     value = context.divide(exact.create_decimal(numerator), exact.create_decimal(denominator))
     sign, digits, exponent = value.as_tuple()
     text = "".join(map(str, digits)).ljust(20, "0")
