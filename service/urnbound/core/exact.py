@@ -137,14 +137,23 @@ def decimal_of_fraction(numerator: int, denominator: int) -> str:
     return f"{text[0]}.{text[1:]}e{exponent}"
 
 
-def log10_of_fraction(numerator: int, denominator: int, prec: int = 80) -> float:
-    """log10 of a positive fraction, accurate also when the fraction is close to 1."""
+def log10_of_fraction(numerator: int, denominator: int) -> float:
+    """log10 of a positive fraction, accurate also when the fraction is close to 1.
+
+    Within 1/4 of 1 it is log1p(-c) / ln 10 with the complement c = 1 - p divided
+    exactly (Python's correctly rounded int division); elsewhere the fraction is
+    rounded to 64 bits and its logarithm taken from the binary exponent.
+
+    >>> log10_of_fraction(999, 1000)
+    -0.00043451177401769125
+    """
     complement = denominator - numerator
     if 0 <= 4 * complement < denominator:
-        natural = mp.log1p_neg(mp.ratio(complement, denominator, prec), prec)
-    else:
-        natural = mp.log(mp.ratio(numerator, denominator, prec), prec)
-    return mp.to_float(mp.div(natural, mp.ln10(prec), prec))
+        return math.log1p(-(complement / denominator)) / _LN10
+    return mp.log10_value(mp.ratio(numerator, denominator, 64))
+
+
+_LN10 = math.log(10)
 
 
 def magnitude_of_fraction(numerator: int, denominator: int) -> Magnitude:

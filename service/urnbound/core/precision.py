@@ -246,7 +246,7 @@ def decimal_text(a: Real) -> str:
     sign, mantissa, exponent, bits = a
     if abs(exponent + bits) > 4 * _INTEGER_DECIMAL_LIMIT:
         return _decimal_text_general(a)
-    estimate = math.floor(log10_value(libmp.mpf_abs(a)))
+    estimate = math.floor(_rough_log10(int(mantissa), int(exponent + bits), int(bits)))
     for decimal_exponent in (estimate, estimate - 1, estimate + 1):
         shift = DECIMAL_DIGITS - 1 - decimal_exponent
         digits = _rounded_digits(int(mantissa), int(exponent), shift)
@@ -289,15 +289,32 @@ def log10_value(a: Real, prec: int = 64) -> float:
 
     With a = f * 2**e and 1/2 <= f < 1, it is log10(f) + e * log10(2) in float
     arithmetic, where both terms carry a relative error near 2**-53 and do not
-    cancel for |e| > 2; within a factor 4 of 1, the logarithm is taken at ``prec`` bits.
+    cancel for |e| > 2. Closer to 1 it is log1p(a - 1) / ln 10 with a - 1 formed
+    exactly, when 1/2 <= a < 2, and log10 of the float value otherwise (a float
+    between 1/8 and 1/2, or 2 and 8, has a logarithm far from zero).
 
     >>> log10_value(real(Fraction(1, 1000), 80))
     -3.0
+    >>> log10_value(real(1 + Fraction(1, 10**30), 200))
+    4.342944819032518e-31
     """
     _sign, mantissa, exponent, bits = a
     binary_exponent = int(exponent + bits)
-    if -2 <= binary_exponent <= 2:
-        return to_float(div(log(a, prec), ln10(prec), prec))
+    if abs(binary_exponent) > 2**1000:
+        return math.inf if binary_exponent > 0 else -math.inf
+    if binary_exponent in (0, 1):
+        offset = to_float(sub(a, ONE, int(bits) + 2))
+        return math.log1p(offset) / _LN10
+    if -2 <= binary_exponent <= 3:
+        return math.log10(to_float(a))
+    return _rough_log10(int(mantissa), binary_exponent, int(bits))
+
+
+_LN10 = math.log(10)
+
+
+def _rough_log10(mantissa: int, binary_exponent: int, bits: int) -> float:
+    """log10(f) + e log10(2) for mantissa / 2**bits = f, a = f * 2**e: good unless e is tiny."""
     if abs(binary_exponent) > 2**1000:
         return math.inf if binary_exponent > 0 else -math.inf
     shift = max(0, bits - 64)
@@ -312,9 +329,14 @@ def magnitude_of_real(a: Real) -> Magnitude:
     return Magnitude(to_float(a), decimal_text(a), log10_value(a))
 
 
-def magnitude_of_log(a: Real, log_a: Real, prec: int) -> Magnitude:
-    """Report a positive real whose natural logarithm is known more accurately."""
-    log10 = to_float(div(log_a, ln10(prec), prec))
+def magnitude_of_log(a: Real, log_a: Real) -> Magnitude:
+    """Report a positive real whose natural logarithm is known more accurately.
+
+    log10 is ln(a) / ln 10 in float arithmetic (one rounding of ln(a), one division),
+    or at 64 bits when ln(a) itself is past the float range.
+    """
+    natural = to_float(log_a)
+    log10 = natural / _LN10 if math.isfinite(natural) else to_float(div(log_a, ln10(64), 64))
     return Magnitude(to_float(a), decimal_text(a), log10)
 
 
