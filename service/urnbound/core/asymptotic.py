@@ -102,10 +102,14 @@ def log_no_collision(size: int, count: int, target_bits: int = 64) -> LogNoColli
     """
     if count < 2 or count > size or size < MIN_SIZE:
         raise ValueError("the expansion needs 2 <= count <= size and size >= MIN_SIZE")
-    work = _working_precision(size, count, target_bits)
+    magnitude = _log2_magnitude(size, count)
+    # Floating-point forms: |L| * 2**-work stays below 2**-(target + GUARD_BITS).
+    work = target_bits + max(0, magnitude) + GUARD_BITS
     rest = size - count
     if rest >= MIN_STIRLING_REST:
-        estimate = _stirling_form(size, count, target_bits, work)
+        # Fixed point: one unit is 2**-(target + GUARD_BITS) * min(1, |L|).
+        scale = target_bits + GUARD_BITS + max(0, -magnitude)
+        estimate = _stirling_form(size, count, scale, work)
         if estimate is not None:
             return estimate
     if rest > MAX_EXACT_FACTORIAL:
@@ -113,15 +117,10 @@ def log_no_collision(size: int, count: int, target_bits: int = 64) -> LogNoColli
     return _small_remainder_form(size, count, work)
 
 
-def _working_precision(size: int, count: int, target_bits: int) -> int:
-    """Bits that keep |L| * 2**-work below 2**-target (cancellation is handled per form)."""
-    return target_bits + max(0, _log2_magnitude(size, count)) + GUARD_BITS
-
-
 def _log2_magnitude(size: int, count: int) -> int:
     """A rough log2 |L| (within a few bits), from float arithmetic on the exponents."""
-    log2_size = _log2(size)
-    log2_count = _log2(count)
+    log2_size = mp.log2_of_int(size)
+    log2_count = mp.log2_of_int(count)
     ratio_log2 = log2_count - log2_size
     if ratio_log2 < -10:
         return math.ceil(2 * log2_count - log2_size)
@@ -130,20 +129,14 @@ def _log2_magnitude(size: int, count: int) -> int:
     return math.ceil(log2_size + math.log2(max(abs(f), 1e-300)) + 1)
 
 
-def _log2(value: int) -> float:
-    shift = max(0, value.bit_length() - 60)
-    return math.log2(value >> shift) + shift
-
-
-def _stirling_form(size: int, count: int, target_bits: int, work: int) -> LogNoCollision | None:
+def _stirling_form(size: int, count: int, scale: int, work: int) -> LogNoCollision | None:
     """L = -(M+1/2) log1p(-x) - n + D in fixed point; ``None`` if D's remainder stays large.
 
-    All parts are summed as integers in units of 2**-scale, chosen so that one unit is
-    2**-(target + GUARD_BITS) min(1, |L|): exp(L) needs an absolute error in L below
-    2**-target, and -expm1(L) a relative one when |L| < 1.
+    All parts are summed as integers in units of 2**-scale, chosen by the caller so that
+    one unit is 2**-(target + GUARD_BITS) min(1, |L|): exp(L) needs an absolute error in
+    L below 2**-target, and -expm1(L) a relative one when |L| < 1.
     """
     rest = size - count
-    scale = target_bits + GUARD_BITS + max(0, -_log2_magnitude(size, count))
     if _series_terms(size, count, scale) <= MAX_SERIES_TERMS:
         main = _leading_series(size, count, scale)
     else:

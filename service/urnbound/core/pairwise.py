@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from fractions import Fraction
 
+import gmpy2
 from mpmath import libmp
 
 from urnbound.core import precision as mp
@@ -124,6 +125,9 @@ def _expected_distinct_and_duplicates(size: int, count: int) -> tuple[Real, Real
     if count <= 1 or size == 1:
         distinct = min(count, size)
         return mp.real(distinct, prec), mp.real(count - distinct, prec)
+    fast = _duplicates_by_binomial_series(size, count)
+    if fast is not None:
+        return fast
     u = mp.real(Fraction(1, size), prec + 8)
     log_keep = mp.log1p_neg(u, prec + 8)
     y = mp.mul(mp.real(count, prec + 8), log_keep, prec + 8)
@@ -135,3 +139,43 @@ def _expected_distinct_and_duplicates(size: int, count: int) -> tuple[Real, Real
                    mp.log1p_plus(u, prec + 8), prec + 8)
     second = mp.mul(big, mp.expm1_minus(y, prec + 8), prec + 8)
     return distinct, mp.add(first, second, prec)
+
+
+#: The binomial series below is used when n/N < 2**-MIN_SERIES_GAP (few terms needed).
+MIN_SERIES_GAP = 7
+
+
+def _duplicates_by_binomial_series(size: int, count: int) -> tuple[Real, Real] | None:
+    """Distinct values and duplicates from C(n,2)/N - C(n,3)/N**2 + C(n,4)/N**3 - ...
+
+    Expanding N (1 - (1 - 1/N)**n) binomially gives duplicates = sum_{j>=2} (-1)**j
+    C(n, j) / N**(j-1). For n/N < 2**-7 the terms fall by a factor (n - j)/((j + 1) N)
+    < 2**-7, so the series alternates with decreasing terms and its tail is below the
+    first omitted term. Terms are exact rationals, floored once each in units of
+    2**-scale, with scale chosen so that the sum is at least 2**91 units: the result is
+    good to (terms + 1) units, far below 2**-FIGURES_PREC relative. ``None`` when n/N is
+    too large for few terms.
+
+    >>> distinct, duplicates = _duplicates_by_binomial_series(2**64, 10**9)
+    >>> round(mp.to_float(duplicates), 12)
+    0.027105054285
+    """
+    if size.bit_length() - count.bit_length() - 1 < MIN_SERIES_GAP:
+        return None
+    pairs = gmpy2.mpz(count) * (count - 1) // 2
+    big = gmpy2.mpz(size)
+    scale = max(0, 92 - int(pairs.bit_length()) + size.bit_length())
+    total = gmpy2.mpz(0)
+    binomial, power, sign = pairs, big, 1
+    for j in range(2, 64):
+        term = (binomial << scale) // power
+        if term == 0:
+            duplicates = libmp.from_man_exp(int(total), -scale, FIGURES_PREC, mp.NEAREST)
+            distinct = libmp.from_man_exp(int((gmpy2.mpz(count) << scale) - total), -scale,
+                                          FIGURES_PREC, mp.NEAREST)
+            return distinct, duplicates
+        total += sign * term
+        sign = -sign
+        binomial = binomial * (count - j) // (j + 1)
+        power *= big
+    return None
