@@ -122,10 +122,18 @@ def to_float(a: Real) -> float:
         return -0.0 if sign else 0.0
     if top > 1025:
         return -math.inf if sign else math.inf
-    if bits <= 53 and top > -1020:  # mantissa exact in a float; ldexp exact for normals
+    if top <= -1020:  # subnormal results: let mpmath round them
+        return float(libmp.to_float(a, rnd=NEAREST))
+    if bits > 64:  # keep 64 bits and a sticky bit: float() then rounds as the full value would
+        cut = int(bits) - 64
+        kept = mantissa >> cut
+        mantissa = kept | 1 if (kept << cut) != mantissa else kept
+        exponent += cut
+    try:
         value = math.ldexp(float(mantissa), int(exponent))
-        return -value if sign else value
-    return float(libmp.to_float(a, rnd=NEAREST))
+    except OverflowError:  # rounds up past the largest float
+        value = math.inf
+    return -value if sign else value
 
 
 #: Below 2**-SERIES_BITS the functions below sum their Taylor series; above it they use
@@ -225,6 +233,7 @@ def expm1(y: Real, prec: int) -> Real:
     return sub(exp(y, work), ONE, prec)
 
 
+_LOWEST_DIGITS = 10 ** (DECIMAL_DIGITS - 1)
 #: Beyond this decimal exponent, decimal text is formed by mpmath's general conversion.
 _INTEGER_DECIMAL_LIMIT = 20_000
 
@@ -250,7 +259,7 @@ def decimal_text(a: Real) -> str:
     for decimal_exponent in (estimate, estimate - 1, estimate + 1):
         shift = DECIMAL_DIGITS - 1 - decimal_exponent
         digits = _rounded_digits(int(mantissa), int(exponent), shift)
-        if 10 ** (DECIMAL_DIGITS - 1) <= digits < 10**DECIMAL_DIGITS:
+        if _LOWEST_DIGITS <= digits < _LOWEST_DIGITS * 10:
             text = str(digits)
             return f"{'-' if sign else ''}{text[0]}.{text[1:]}e{decimal_exponent}"
     return _decimal_text_general(a)  # unreachable: the estimate is within one
