@@ -346,7 +346,29 @@ def magnitude_of_log(a: Real, log_a: Real) -> Magnitude:
     """
     natural = to_float(log_a)
     log10 = natural / _LN10 if math.isfinite(natural) else to_float(div(log_a, ln10(64), 64))
+    _sign, _mantissa, exponent, bits = a
+    if abs(exponent + bits) > 4 * _INTEGER_DECIMAL_LIMIT:
+        return Magnitude(to_float(a), _decimal_text_from_log(log_a), log10)
     return Magnitude(to_float(a), decimal_text(a), log10)
+
+
+def _decimal_text_from_log(log_a: Real) -> str:
+    """Decimal text of exp(log_a) for a huge |log_a|, from log10 = e + f, 0 <= f < 1.
+
+    The mantissa is 10**f = exp(f ln 10), with f taken to 96 bits after the integer
+    part e: the text is as accurate as log_a itself (absolute error d in log_a is a
+    relative error expm1(d) in the value) plus one rounding to 20 digits.
+    """
+    prec = magnitude_bits(log_a) + 96
+    tenth_power = div(log_a, ln10(prec), prec)
+    whole = int(libmp.to_int(tenth_power, libmp.round_floor))
+    fraction = sub(tenth_power, real(whole, prec), 96)
+    mantissa = exp(mul(fraction, ln10(96), 96), 96)
+    digits = _rounded_digits(int(mantissa[1]), int(mantissa[2]), DECIMAL_DIGITS - 1)
+    if digits >= _LOWEST_DIGITS * 10:  # 10**f rounded up to 10
+        digits, whole = digits // 10, whole + 1
+    text = str(digits)
+    return f"{text[0]}.{text[1:]}e{whole}"
 
 
 def add_up(a: Real, b: Real, prec: int = 53) -> Real:
