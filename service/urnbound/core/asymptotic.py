@@ -27,7 +27,9 @@ by M + 1/2 it is good to a unit.
 Remainder. For real z > 0 the Stirling remainder after K terms has the sign of, and is
 smaller than, the first omitted term (DLMF 5.11.ii). So truncating D after K terms
 leaves an error below |c_{K+1}| (N**-(2K+1) + M**-(2K+1)) <= 2 |c_{K+1}| M**-(2K+1);
-terms are added until that is below MAX_TRUNCATION_UNITS units. When M is small
+terms are added until that is below MAX_TRUNCATION_UNITS units. When n << N the whole
+of D is below one unit (Robbins 1955: 1/(12z+1) < R(z) < 1/(12z), so |D| < n/(6NM)),
+and it is then bounded rather than summed. When M is small
 (n close to N), ln M! is taken from the integer M! instead (``small-remainder`` form,
 in floating point with a bound of a few units in the last place per term).
 
@@ -201,6 +203,9 @@ def _stirling_difference(size: int, rest: int, scale: int) -> _Fixed | None:
     Term j is c_j (M**p - N**p) / (N**p M**p) with p = 2j - 1, floored once. After it,
     the truncation is below 2 |c_(j+1)| / M**(p+2) (first omitted terms of R(N), R(M)).
     """
+    if (size - rest).bit_length() + scale <= size.bit_length() + rest.bit_length():
+        # Robbins (1955): 1/(12z+1) < R(z) < 1/(12z), so |D| < n / (6 N M) < one unit here.
+        return _Fixed(0, 1)
     total = gmpy2.mpz(0)
     error = 0
     big_power, small_power = gmpy2.mpz(size), gmpy2.mpz(rest)

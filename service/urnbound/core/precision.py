@@ -12,6 +12,7 @@ from collections.abc import Callable
 from fractions import Fraction
 from typing import Any
 
+import gmpy2
 from mpmath import libmp
 
 from urnbound.core.results import Magnitude
@@ -234,6 +235,7 @@ def expm1(y: Real, prec: int) -> Real:
 
 
 _LOWEST_DIGITS = 10 ** (DECIMAL_DIGITS - 1)
+_TEN = gmpy2.mpz(10)
 #: Beyond this decimal exponent, decimal text is formed by mpmath's general conversion.
 _INTEGER_DECIMAL_LIMIT = 20_000
 
@@ -267,8 +269,8 @@ def decimal_text(a: Real) -> str:
 
 def _rounded_digits(mantissa: int, exponent: int, shift: int) -> int:
     """round(mantissa * 2**exponent * 10**shift), half to even, in integers."""
-    numerator = mantissa * 10 ** max(shift, 0)
-    denominator = 10 ** max(-shift, 0)
+    numerator = gmpy2.mpz(mantissa) * _TEN ** max(shift, 0)
+    denominator = _TEN ** max(-shift, 0)
     if exponent >= 0:
         numerator <<= exponent
     else:
