@@ -28,8 +28,11 @@ from urnbound.core.precision import Real
 from urnbound.core.regimes import choose_method, is_trivial
 from urnbound.core.results import CapacityAnswer, LengthAnswer
 
-#: Times the asymptotic precision is doubled before a comparison is declared undecidable.
-MAX_PRECISION_DOUBLINGS = 3
+#: Tries of the asymptotic comparison, doubling the precision each time, before it is
+#: declared undecidable. max_risk is at most 200 characters (about 660 bits), so a risk
+#: can agree with it to about that many bits at most; the first try carries
+#: 64 + log2(count) bits and the fifth 16 times that, which always reaches past it.
+MAX_PRECISION_DOUBLINGS = 5
 #: Newton steps of the count search before the local search takes over regardless.
 MAX_NEWTON_STEPS = 40
 
