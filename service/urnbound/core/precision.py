@@ -162,7 +162,7 @@ def power_series(x: Real, first: int, coefficient: Callable[[int], Real], prec: 
     raise ArithmeticError("power series did not converge")  # unreachable for |x| < 2**-16
 
 
-def _reciprocal(k: int, prec: int) -> Real:
+def _unit_fraction(k: int, prec: int) -> Real:
     return div(ONE, real(k, prec), prec)
 
 
@@ -178,7 +178,7 @@ def log1p_neg(x: Real, prec: int) -> Real:
         return ZERO
     if magnitude_bits(x) > -SERIES_BITS:
         return log(sub(ONE, x, prec + 2 * SERIES_BITS + 8), prec)
-    return neg(power_series(x, 1, lambda k: _reciprocal(k, prec + 8), prec))
+    return neg(power_series(x, 1, lambda k: _unit_fraction(k, prec + 8), prec))
 
 
 def log1p_plus(x: Real, prec: int) -> Real:
@@ -192,7 +192,7 @@ def log1p_plus(x: Real, prec: int) -> Real:
     if magnitude_bits(x) > -SERIES_BITS:
         extra = prec + 2 * SERIES_BITS + 8
         return add(log1p_neg(x, extra), x, prec)
-    return neg(power_series(x, 2, lambda k: _reciprocal(k, prec + 8), prec))
+    return neg(power_series(x, 2, lambda k: _unit_fraction(k, prec + 8), prec))
 
 
 def expm1_minus(y: Real, prec: int) -> Real:
