@@ -240,15 +240,21 @@ def _passes(size: int, count: int, max_risk: Fraction, exact_digit_limit: int) -
         return count <= 1
     if size < MIN_SIZE:
         return risk_at_most(size, count, max_risk)
+    exact_allowed = choose_method(size, count, exact_digit_limit) == "exact"
     bits = 64 + count.bit_length()
-    for _ in range(MAX_PRECISION_DOUBLINGS):
-        estimate = risk_estimate(size, count, bits)
+    for attempt in range(MAX_PRECISION_DOUBLINGS):
+        if exact_allowed and attempt > 0:
+            break  # undecided once: the exact comparison is cheaper than more precision
+        try:
+            estimate = risk_estimate(size, count, bits)
+        except NoConvergence:
+            break  # the expansion cannot reach this precision for this question
         verdict = _verdict(estimate.collision, estimate.collision_error, max_risk,
                            estimate.prec + 16)
         if verdict is not None:
             return verdict
         bits *= 2
-    if choose_method(size, count, exact_digit_limit) == "exact":
+    if exact_allowed:
         return risk_at_most(size, count, max_risk)
     raise NoConvergence("the risk is too close to max_risk to decide at any precision tried")
 
