@@ -240,7 +240,7 @@ _TEN = gmpy2.mpz(10)
 _INTEGER_DECIMAL_LIMIT = 20_000
 
 
-def decimal_text(a: Real) -> str:
+def decimal_text(a: Real, log10_hint: float | None = None) -> str:
     """Scientific text with DECIMAL_DIGITS significant digits, never underflowing.
 
     Correctly rounded (half to even) from the binary value, by integer arithmetic,
@@ -251,13 +251,17 @@ def decimal_text(a: Real) -> str:
     '3.3333333333333333333e-1'
     >>> decimal_text(real(Fraction(1, 8), 53))
     '1.2500000000000000000e-1'
+
+    :param log10_hint: log10 of the value when already known (within 1); saves a step.
     """
     if is_zero(a):
         return "0"
     sign, mantissa, exponent, bits = a
     if abs(exponent + bits) > 4 * _INTEGER_DECIMAL_LIMIT:
         return _decimal_text_general(a)
-    estimate = math.floor(_rough_log10(int(mantissa), int(exponent + bits), int(bits)))
+    if log10_hint is None or not math.isfinite(log10_hint):
+        log10_hint = _rough_log10(int(mantissa), int(exponent + bits), int(bits))
+    estimate = math.floor(log10_hint)
     for decimal_exponent in (estimate, estimate - 1, estimate + 1):
         shift = DECIMAL_DIGITS - 1 - decimal_exponent
         digits = _rounded_digits(int(mantissa), int(exponent), shift)
@@ -300,9 +304,9 @@ def log10_value(a: Real, prec: int = 64) -> float:
 
     With a = f * 2**e and 1/2 <= f < 1, it is log10(f) + e * log10(2) in float
     arithmetic, where both terms carry a relative error near 2**-53 and do not
-    cancel for |e| > 2. Closer to 1 it is log1p(a - 1) / ln 10 with a - 1 formed
-    exactly, when 1/2 <= a < 2, and log10 of the float value otherwise (a float
-    between 1/8 and 1/2, or 2 and 8, has a logarithm far from zero).
+    cancel for |e| > 2. Within the float range it is log10 of the float value (away
+    from 1 the logarithm is far from zero, so the float's rounding stays relative),
+    and for 1/2 <= a < 2 it is log1p(a - 1) / ln 10 with a - 1 formed exactly.
 
     >>> log10_value(real(Fraction(1, 1000), 80))
     -3.0
@@ -316,7 +320,7 @@ def log10_value(a: Real, prec: int = 64) -> float:
     if binary_exponent in (0, 1):
         offset = to_float(sub(a, ONE, int(bits) + 2))
         return math.log1p(offset) / _LN10
-    if -2 <= binary_exponent <= 3:
+    if -1020 <= binary_exponent <= 1020:  # a normal float, away from 1: no cancellation
         return math.log10(to_float(a))
     return _rough_log10(int(mantissa), binary_exponent, int(bits))
 
@@ -337,7 +341,8 @@ def magnitude_of_real(a: Real) -> Magnitude:
     """Report a non-negative real computed to working precision."""
     if is_zero(a):
         return Magnitude(0.0, "0", None)
-    return Magnitude(to_float(a), decimal_text(a), log10_value(a))
+    log10 = log10_value(a)
+    return Magnitude(to_float(a), decimal_text(a, log10), log10)
 
 
 def magnitude_of_log(a: Real, log_a: Real) -> Magnitude:
@@ -351,7 +356,7 @@ def magnitude_of_log(a: Real, log_a: Real) -> Magnitude:
     _sign, _mantissa, exponent, bits = a
     if abs(exponent + bits) > 4 * _INTEGER_DECIMAL_LIMIT:
         return Magnitude(to_float(a), _decimal_text_from_log(log_a), log10)
-    return Magnitude(to_float(a), decimal_text(a), log10)
+    return Magnitude(to_float(a), decimal_text(a, log10), log10)
 
 
 def _decimal_text_from_log(log_a: Real) -> str:
