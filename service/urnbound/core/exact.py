@@ -164,13 +164,17 @@ def magnitude_of_fraction(numerator: int, denominator: int) -> Magnitude:
     """
     if numerator == 0:
         return Magnitude(0.0, "0", None)
-    value = _float_of_fraction(numerator, denominator)
+    value = float_of_fraction(numerator, denominator)
     return Magnitude(value, decimal_of_fraction(numerator, denominator),
                      log10_of_fraction(numerator, denominator))
 
 
-def _float_of_fraction(numerator: int, denominator: int) -> float:
-    """Correctly rounded float64 (Python's int division), ``inf`` past the float range."""
+def float_of_fraction(numerator: int, denominator: int) -> float:
+    """Correctly rounded float64 (Python's int division), ``inf`` past the float range.
+
+    >>> float_of_fraction(1, 3) == 1 / 3, float_of_fraction(10**400, 1)
+    (True, inf)
+    """
     try:
         return numerator / denominator
     except OverflowError:

@@ -10,7 +10,13 @@ from mpmath import libmp
 from urnbound.core import precision as mp
 from urnbound.core.asymptotic import risk_estimate
 from urnbound.core.errors import DomainError
-from urnbound.core.exact import digits_estimate, exact_risk, magnitude_of_fraction
+from urnbound.core.exact import (
+    decimal_of_fraction,
+    digits_estimate,
+    exact_risk,
+    float_of_fraction,
+    magnitude_of_fraction,
+)
 from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, MAX_FRACTION_DIGITS, MAX_SIZE_BITS
 from urnbound.core.precision import Real
 from urnbound.core.regimes import choose_method
@@ -106,12 +112,19 @@ def related_figures(size: int, count: int, risk: CollisionRisk) -> RelatedFigure
 
 
 def _reciprocal(probability: Magnitude) -> Magnitude | None:
-    """1 / p from the reported decimal text (same accuracy, one more rounding)."""
+    """1 / p from the reported decimal text, read as an exact fraction and rounded once.
+
+    >>> _reciprocal(Magnitude(0.25, "2.5000000000000000000e-1", -0.6)).decimal
+    '4.0000000000000000000e0'
+    """
     if probability.log10 is None:
         return None
-    value = libmp.from_str(probability.decimal, FIGURES_PREC, mp.NEAREST)
-    inverse = mp.div(mp.ONE, value, FIGURES_PREC)
-    return Magnitude(mp.to_float(inverse), mp.decimal_text(inverse), -probability.log10)
+    mantissa, _, exponent = probability.decimal.partition("e")
+    digits = int(mantissa.replace(".", ""))
+    shift = int(exponent) - (len(mantissa) - 2)  # p = digits * 10**shift, exactly
+    numerator, denominator = 10 ** max(-shift, 0), digits * 10 ** max(shift, 0)
+    return Magnitude(float_of_fraction(numerator, denominator),
+                     decimal_of_fraction(numerator, denominator), -probability.log10)
 
 
 def _expected_distinct_and_duplicates(size: int, count: int) -> tuple[Real, Real]:
