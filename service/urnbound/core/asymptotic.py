@@ -54,7 +54,7 @@ from urnbound.core.precision import Real
 #: Below this ratio n/N the leading terms are summed as a series (see module docstring).
 SERIES_RATIO_BITS = 16
 #: Most terms the leading series may take; past that the closed form is cheaper.
-MAX_SERIES_TERMS = 16
+MAX_SERIES_TERMS = 6
 #: Below this M = N - n the Stirling series of ln M! is not tried (ln M! is formed exactly).
 MIN_STIRLING_REST = 256
 #: Stirling terms tried before falling back to the exact ln M!.
@@ -183,7 +183,7 @@ def _leading_series(size: int, count: int, scale: int) -> _Fixed:
 
 
 def _leading_closed_form(size: int, count: int, scale: int) -> _Fixed:
-    """-(M + 1/2) log(M/N) - n, for x >= 2**-16, with log at scale + log2 N + 16 bits.
+    """-(M + 1/2) log(M/N) - n, when the series is long, with log at scale + log2 N + 16 bits.
 
     Rounding M/N costs (M + 1/2) 2**-(prec+8) absolutely (log is ill-conditioned near
     1), the log and the product |first| 2**-prec each, the conversion one unit: with
