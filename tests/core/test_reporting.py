@@ -10,7 +10,7 @@ from hypothesis import example, given, settings
 from hypothesis import strategies as st
 from mpmath import libmp
 
-from urnbound.core import precision as mp
+from urnbound.core import reporting
 from urnbound.core.exact import decimal_of_fraction, magnitude_of_fraction
 
 
@@ -36,7 +36,7 @@ def test_decimal_text_is_correctly_rounded(value: tuple[int, int]) -> None:
     mantissa, exponent = value
     numerator, denominator = mantissa << max(exponent, 0), 1 << max(-exponent, 0)
     expected = _stdlib_decimal_text(numerator, denominator)
-    assert mp.decimal_text(libmp.from_man_exp(mantissa, exponent)) == expected
+    assert reporting.decimal_text(libmp.from_man_exp(mantissa, exponent)) == expected
     assert decimal_of_fraction(numerator, denominator) == expected
 
 
@@ -52,7 +52,7 @@ def test_fraction_report_matches_float_and_log10(numerator: int, denominator: in
 
 def test_tiny_values_keep_text_and_log10_when_the_float_underflows() -> None:
     tiny = libmp.from_man_exp(3, -5000)  # 3 * 2**-5000, far below the float range
-    report = mp.magnitude_of_real(tiny)
+    report = reporting.magnitude_of_real(tiny)
     assert report.value == 0.0
     assert report.decimal.endswith("e-1505")
     assert report.log10 is not None

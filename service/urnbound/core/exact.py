@@ -14,6 +14,7 @@ from fractions import Fraction
 import gmpy2
 
 from urnbound.core import precision as mp
+from urnbound.core.reporting import DECIMAL_DIGITS, log10_value
 from urnbound.core.results import Magnitude
 
 _LOG10_2 = math.log10(2)
@@ -124,7 +125,7 @@ def decimal_of_fraction(numerator: int, denominator: int) -> str:
     if numerator == 0:
         return "0"
     exponent = decimal_exponent(numerator, denominator)
-    shift = mp.DECIMAL_DIGITS - 1 - exponent
+    shift = DECIMAL_DIGITS - 1 - exponent
     num = gmpy2.mpz(numerator) * _ten_power(shift)
     den = gmpy2.mpz(denominator) * _ten_power(-shift)
     quotient, remainder = divmod(num, den)
@@ -132,8 +133,8 @@ def decimal_of_fraction(numerator: int, denominator: int) -> str:
     if twice > den or (twice == den and quotient % 2 == 1):
         quotient += 1
     text = str(quotient)
-    if len(text) > mp.DECIMAL_DIGITS:
-        text, exponent = text[: mp.DECIMAL_DIGITS], exponent + 1
+    if len(text) > DECIMAL_DIGITS:
+        text, exponent = text[: DECIMAL_DIGITS], exponent + 1
     return f"{text[0]}.{text[1:]}e{exponent}"
 
 
@@ -150,7 +151,7 @@ def log10_of_fraction(numerator: int, denominator: int) -> float:
     complement = denominator - numerator
     if 0 <= 4 * complement < denominator:
         return math.log1p(-(complement / denominator)) / _LN10
-    return mp.log10_value(mp.ratio(numerator, denominator, 64))
+    return log10_value(mp.ratio(numerator, denominator, 64))
 
 
 _LN10 = math.log(10)

@@ -8,6 +8,7 @@ import gmpy2
 from mpmath import libmp
 
 from urnbound.core import precision as mp
+from urnbound.core import reporting
 from urnbound.core.asymptotic import risk_estimate
 from urnbound.core.errors import DomainError
 from urnbound.core.exact import (
@@ -85,10 +86,10 @@ def _asymptotic_answer(size: int, count: int, target_bits: int) -> CollisionRisk
     return CollisionRisk(
         size=size,
         count=count,
-        collision=mp.magnitude_of_real(estimate.collision),
-        no_collision=mp.magnitude_of_log(estimate.no_collision, estimate.log_no_collision),
+        collision=reporting.magnitude_of_real(estimate.collision),
+        no_collision=reporting.magnitude_of_log(estimate.no_collision, estimate.log_no_collision),
         method="asymptotic",
-        relative_error_bound=bound + mp.DECIMAL_ROUNDING,
+        relative_error_bound=bound + reporting.DECIMAL_ROUNDING,
         exact=None,
         precision_bits=estimate.prec,
     )
@@ -104,8 +105,8 @@ def related_figures(size: int, count: int, risk: CollisionRisk) -> RelatedFigure
     distinct, duplicates = _expected_distinct_and_duplicates(size, count)
     return RelatedFigures(
         expected_colliding_pairs=magnitude_of_fraction(count * (count - 1), 2 * size),
-        expected_distinct=mp.magnitude_of_real(distinct),
-        expected_duplicates=mp.magnitude_of_real(duplicates),
+        expected_distinct=reporting.magnitude_of_real(distinct),
+        expected_duplicates=reporting.magnitude_of_real(duplicates),
         one_in=_reciprocal(risk.collision),
         entropy_bits=mp.log2_of_int(size),
     )
