@@ -33,6 +33,10 @@ and it is then bounded rather than summed. When M is small
 (n close to N), ln M! is taken from the integer M! instead (``small-remainder`` form,
 in floating point with a bound of a few units in the last place per term).
 
+When n/N is below 2**-(target + GUARD_BITS + 2), all of this collapses to its first
+term, L = -n(n-1)/(2N), to within the working accuracy (``_tiny_ratio_form`` states the
+bound); that is the common case of a large space.
+
 The reported error bound is the sum of the per-term rounding units and the
 truncation, converted to relative bounds on the probability and its complement in
 ``risk_estimate``.
@@ -108,6 +112,9 @@ def log_no_collision(size: int, count: int, target_bits: int = 64) -> LogNoColli
     # Floating-point forms: |L| * 2**-work stays below 2**-(target + GUARD_BITS).
     work = target_bits + max(0, magnitude) + GUARD_BITS
     rest = size - count
+    tiny = _tiny_ratio_form(size, count, target_bits)
+    if tiny is not None:
+        return tiny
     if rest >= MIN_STIRLING_REST:
         # Fixed point: one unit is 2**-(target + GUARD_BITS) * min(1, |L|).
         scale = target_bits + GUARD_BITS + max(0, -magnitude)
@@ -129,6 +136,26 @@ def _log2_magnitude(size: int, count: int) -> int:
     ratio = 2.0**ratio_log2
     f = -(1.0 - ratio) * math.log1p(-ratio) - ratio if ratio < 1 else -1.0
     return math.ceil(log2_size + math.log2(max(abs(f), 1e-300)) + 1)
+
+
+def _tiny_ratio_form(size: int, count: int, target_bits: int) -> LogNoCollision | None:
+    """L = -n(n-1)/(2N) (1 + e) when x = n/N < 2**-(target + GUARD_BITS + 2), else ``None``.
+
+    The leading series (module docstring) is -(n-1)x/2 plus a rest below n x**2, which is
+    4x relative to it; D is below n/(6NM) (Robbins), 1/(3(n-1)M) relative. With x and 1/M
+    both below 2**-prec, prec = target + GUARD_BITS, and one rounding of the fraction, the
+    relative error is below 3 * 2**-prec (1 + 2**-prec) < 2**(2-prec).
+
+    >>> est = _tiny_ratio_form(2**8192, 10**60, 64)
+    >>> round(mp.to_float(mp.scale2(est.value, 8192)) / -5e119, 12)
+    1.0
+    """
+    prec = target_bits + GUARD_BITS
+    if size.bit_length() - count.bit_length() - 1 < prec + 2:  # x < 2**-(gap) needed
+        return None
+    value = libmp.from_rational(-count * (count - 1), 2 * size, prec, mp.NEAREST)
+    error = mp.scale2(mp.absolute(value), 2 - prec)
+    return LogNoCollision(value, error, prec)
 
 
 def _stirling_form(size: int, count: int, scale: int, work: int) -> LogNoCollision | None:
