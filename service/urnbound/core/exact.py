@@ -14,7 +14,12 @@ from fractions import Fraction
 import gmpy2
 
 from urnbound.core import precision as mp
-from urnbound.core.reporting import DECIMAL_DIGITS, log10_value
+from urnbound.core.reporting import (
+    DECIMAL_DIGITS,
+    log10_value,
+    rounded_quotient,
+    scientific_text,
+)
 from urnbound.core.results import Magnitude
 
 _LOG10_2 = math.log10(2)
@@ -128,14 +133,10 @@ def decimal_of_fraction(numerator: int, denominator: int) -> str:
     shift = DECIMAL_DIGITS - 1 - exponent
     num = gmpy2.mpz(numerator) * _ten_power(shift)
     den = gmpy2.mpz(denominator) * _ten_power(-shift)
-    quotient, remainder = divmod(num, den)
-    twice = 2 * remainder
-    if twice > den or (twice == den and quotient % 2 == 1):
-        quotient += 1
-    text = str(quotient)
+    text = str(rounded_quotient(num, den))
     if len(text) > DECIMAL_DIGITS:
         text, exponent = text[: DECIMAL_DIGITS], exponent + 1
-    return f"{text[0]}.{text[1:]}e{exponent}"
+    return scientific_text(text, exponent)
 
 
 def log10_of_fraction(numerator: int, denominator: int) -> float:

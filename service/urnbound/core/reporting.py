@@ -47,8 +47,7 @@ def decimal_text(a: Real, log10_hint: float | None = None) -> str:
         shift = DECIMAL_DIGITS - 1 - decimal_exponent
         digits = _rounded_digits(int(mantissa), int(exponent), shift)
         if _LOWEST_DIGITS <= digits < _LOWEST_DIGITS * 10:
-            text = str(digits)
-            return f"{'-' if sign else ''}{text[0]}.{text[1:]}e{decimal_exponent}"
+            return scientific_text(str(digits), decimal_exponent, "-" if sign else "")
     return _decimal_text_general(a)  # unreachable: the estimate is within one
 
 
@@ -60,11 +59,29 @@ def _rounded_digits(mantissa: int, exponent: int, shift: int) -> int:
         numerator <<= exponent
     else:
         denominator <<= -exponent
+    return rounded_quotient(numerator, denominator)
+
+
+def rounded_quotient(numerator: int, denominator: int) -> int:
+    """numerator / denominator rounded to the nearest integer, half to even.
+
+    >>> rounded_quotient(5, 2), rounded_quotient(7, 2), rounded_quotient(8, 3)
+    (2, 4, 3)
+    """
     quotient, remainder = divmod(numerator, denominator)
     twice = 2 * remainder
     if twice > denominator or (twice == denominator and quotient % 2 == 1):
         quotient += 1
     return int(quotient)
+
+
+def scientific_text(digits: str, exponent: int, sign: str = "") -> str:
+    """'d.ddd...e<exponent>' from a digit string whose first digit is not zero.
+
+    >>> scientific_text("12500", -1)
+    '1.2500e-1'
+    """
+    return f"{sign}{digits[0]}.{digits[1:]}e{exponent}"
 
 
 def _decimal_text_general(a: Real) -> str:
@@ -74,7 +91,7 @@ def _decimal_text_general(a: Real) -> str:
     if len(text) > DECIMAL_DIGITS:
         text = text[:DECIMAL_DIGITS]
         exponent += 1
-    return f"{sign}{text[0]}.{text[1:]}e{exponent}"
+    return scientific_text(text, exponent, sign)
 
 
 _LOG10_2 = math.log10(2)
@@ -158,7 +175,6 @@ def _decimal_text_from_log(log_a: Real) -> str:
     digits = _rounded_digits(int(mantissa[1]), int(mantissa[2]), DECIMAL_DIGITS - 1)
     if digits >= _LOWEST_DIGITS * 10:  # 10**f rounded up to 10
         digits, whole = digits // 10, whole + 1
-    text = str(digits)
-    return f"{text[0]}.{text[1:]}e{whole}"
+    return scientific_text(str(digits), whole)
 
 
