@@ -207,7 +207,7 @@ def log2_of_int(value: int) -> float:
     >>> log2_of_int(2**8192)
     8192.0
     """
-    shift = max(0, value.bit_length() - 60)
+    shift = max(0, value.bit_length() - 64)  # only the top 64 bits reach the float step
     return math.log2(value >> shift) + shift
 
 

@@ -2,11 +2,11 @@
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 from urnbound.core.errors import DomainError
 from urnbound.core.limits import MAX_SIZE_BITS
+from urnbound.core.precision import log2_of_int
 from urnbound.domain.alphabets import Alphabet
 
 #: Sizes with more digits than this are described in scientific notation.
@@ -26,8 +26,7 @@ def log2_of(value: int) -> float:
     """
     if value < 1:
         raise ValueError("log2 needs a positive integer")
-    shift = max(0, value.bit_length() - 64)
-    return math.log2(value >> shift) + shift
+    return log2_of_int(value)
 
 
 @dataclass(frozen=True, slots=True)
