@@ -1,4 +1,8 @@
-"""Hard limits on inputs, so that every question has a bounded cost."""
+"""Hard limits on inputs, so that every question has a bounded cost.
+
+This is the one place a limit is written down: parsers check against these constants and
+every message that states an allowed range is formed from them.
+"""
 
 from __future__ import annotations
 
@@ -6,10 +10,26 @@ from fractions import Fraction
 
 #: Largest identifier space answered, as a power of two (N <= 2**MAX_SIZE_BITS).
 MAX_SIZE_BITS = 8192
-#: Largest number of identifiers a caller may ask about.
-MAX_COUNT = 10**60
-#: Smallest risk target a caller may set.
+#: Largest identifier space, as an integer.
+MAX_SIZE = 2**MAX_SIZE_BITS
+#: Smallest identifier space a caller may give by its size.
+MIN_SPACE_SIZE = 2
+#: Largest number of identifiers a caller may ask about (counts past the space give risk 1).
+MAX_COUNT = 2**MAX_SIZE_BITS
+#: Smallest risk target a caller may set (targets are below 1).
 MIN_RISK = Fraction(1, 10**300)
+#: Fewest and most random bits a space may be given by.
+MIN_BITS = 1
+MAX_BITS = MAX_SIZE_BITS
+#: Fewest and most symbols an alphabet may have.
+MIN_ALPHABET_SIZE = 2
+MAX_ALPHABET_SIZE = 2**16
+#: Shortest identifier length; the longest depends on the alphabet (space <= MAX_SIZE).
+MIN_LENGTH = 1
+#: Longest text accepted for a risk target or a small whole number.
+MAX_TEXT_CHARS = 200
+#: Longest text accepted for a size or a count: 2**8192 written out has 2,467 digits.
+MAX_BIG_TEXT_CHARS = 2_600
 #: Default cost limit of the exact path, in decimal digits of N**n.
 DEFAULT_EXACT_DIGIT_LIMIT = 50_000
 #: Numerator and denominator of a returned exact fraction have at most this many digits.
