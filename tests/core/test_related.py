@@ -99,18 +99,18 @@ def test_small_sizes_against_sympy(size: int) -> None:
             assert (parsed.mantissa, parsed.exponent) in rounded_candidates(pairs), what
         risk = 1 - sympy.Rational(sympy.ff(size, count), sympy.Integer(size) ** count)
         if risk == 0:
-            assert ours.one_in is None, what
+            assert ours.reciprocal_risk is None, what
         else:
-            assert ours.one_in is not None, what
+            assert ours.reciprocal_risk is not None, what
             inverse = Fraction(int(risk.q), int(risk.p))
-            check_figure(mp, ours.one_in, as_mpf(mp, inverse), f"{what} one_in")
+            check_figure(mp, ours.reciprocal_risk, as_mpf(mp, inverse), f"{what} reciprocal_risk")
 
 
 def test_birthday_figures_for_23_of_365() -> None:
     # reference: sympy exact rationals; 23 people over 365 days (encyclopedia table,
     # "Birthday problem": risk 0.5072972) -> one in 1.97, 253/365 expected pairs
     ours = figures(365, 23)
-    assert ours.one_in is not None and round(ours.one_in.value, 3) == 1.971
+    assert ours.reciprocal_risk is not None and round(ours.reciprocal_risk.value, 3) == 1.971
     pairs = Fraction(ours.expected_colliding_pairs.decimal)
     assert abs(pairs - Fraction(253, 365)) < Fraction(1, 10**20)
     assert ours.entropy_bits == pytest.approx(math.log2(365), rel=1e-15)
@@ -171,10 +171,11 @@ def check_against_mpmath(point: tuple[int, int]) -> None:
     check_figure(mp, ours.expected_colliding_pairs, pairs, f"{what} pairs")
     ref = high_precision_risk(size, count)
     if ref.ln_risk is None:
-        assert ours.one_in is None, what
+        assert ours.reciprocal_risk is None, what
     else:
-        assert ours.one_in is not None, what
-        check_figure(ref.mp, ours.one_in, ref.mp.exp(-ref.ln_risk), f"{what} one_in")
+        assert ours.reciprocal_risk is not None, what
+        reciprocal = ref.mp.exp(-ref.ln_risk)
+        check_figure(ref.mp, ours.reciprocal_risk, reciprocal, f"{what} reciprocal_risk")
 
 
 @pytest.mark.parametrize("bits", [1, 2, 53, 64, 122, 128, 1023, 1024, 4096, 8192])
@@ -192,9 +193,9 @@ def test_entropy_bits_against_mpmath(size: int) -> None:
     assert abs(figures(size, 2).entropy_bits / ref - 1) <= 2**-52
 
 
-def test_one_in_is_one_for_a_certain_collision() -> None:
+def test_reciprocal_risk_is_one_for_a_certain_collision() -> None:
     # pigeonhole: 366 draws from 365 values collide for sure, odds one in one
     ours = figures(365, 366)
-    assert ours.one_in is not None
-    assert Fraction(ours.one_in.decimal) == 1
-    assert ours.one_in.value == 1.0 and ours.one_in.log10 == 0.0
+    assert ours.reciprocal_risk is not None
+    assert Fraction(ours.reciprocal_risk.decimal) == 1
+    assert ours.reciprocal_risk.value == 1.0 and ours.reciprocal_risk.log10 == 0.0

@@ -162,7 +162,8 @@ def magnitude_of_fraction(numerator: int, denominator: int) -> Magnitude:
     """Report a non-negative fraction: correctly rounded float and decimal text.
 
     >>> magnitude_of_fraction(1, 8)
-    Magnitude(value=0.125, decimal='1.2500000000000000000e-1', log10=-0.9030899869919435)
+    Magnitude(value=0.125, decimal='1.2500000000000000000e-1', log10=-0.9030899869919435, \
+relative_error_bound=0.0)
     """
     if numerator == 0:
         return Magnitude(0.0, "0", None)

@@ -21,7 +21,7 @@ from urnbound.core.exact import (
 from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, MAX_FRACTION_DIGITS, MAX_SIZE_BITS
 from urnbound.core.precision import Real
 from urnbound.core.regimes import choose_method
-from urnbound.core.results import CollisionRisk, Magnitude, RelatedFigures
+from urnbound.core.results import ASYMPTOTIC, EXACT, CollisionRisk, Magnitude, RelatedFigures
 
 #: Working precision of the expected-value figures (their cancellation is handled below).
 FIGURES_PREC = 96
@@ -47,7 +47,7 @@ def collision_risk(
     ('exact', '5.0729723432398540723e-1')
     """
     _check_question(size, count)
-    if choose_method(size, count, exact_digit_limit) == "exact":
+    if choose_method(size, count, exact_digit_limit) == EXACT:
         return _exact_answer(size, count)
     return _asymptotic_answer(size, count, target_bits)
 
@@ -73,7 +73,7 @@ def _exact_answer(size: int, count: int) -> CollisionRisk:
         count=count,
         collision=magnitude_of_fraction(risk.collision, risk.denominator),
         no_collision=magnitude_of_fraction(risk.no_collision, risk.denominator),
-        method="exact",
+        method=EXACT,
         relative_error_bound=0.0,
         exact=fraction,
         precision_bits=0,
@@ -88,7 +88,7 @@ def _asymptotic_answer(size: int, count: int, target_bits: int) -> CollisionRisk
         count=count,
         collision=reporting.magnitude_of_real(estimate.collision),
         no_collision=reporting.magnitude_of_log(estimate.no_collision, estimate.log_no_collision),
-        method="asymptotic",
+        method=ASYMPTOTIC,
         relative_error_bound=bound + reporting.DECIMAL_ROUNDING,
         exact=None,
         precision_bits=estimate.prec,
@@ -107,7 +107,7 @@ def related_figures(size: int, count: int, risk: CollisionRisk) -> RelatedFigure
         expected_colliding_pairs=magnitude_of_fraction(count * (count - 1), 2 * size),
         expected_distinct=reporting.magnitude_of_real(distinct),
         expected_duplicates=reporting.magnitude_of_real(duplicates),
-        one_in=_reciprocal(risk.collision),
+        reciprocal_risk=_reciprocal(risk.collision),
         entropy_bits=mp.log2_of_int(size),
     )
 

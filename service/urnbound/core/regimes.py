@@ -14,7 +14,7 @@ n <= N, so those spaces are always answered exactly whatever the limit. Counts 0
 from __future__ import annotations
 
 from urnbound.core.asymptotic import MIN_SIZE
-from urnbound.core.results import Method
+from urnbound.core.results import ASYMPTOTIC, EXACT, Method
 
 
 def exact_cost_digits(size: int, count: int) -> int:
@@ -40,7 +40,7 @@ def choose_method(size: int, count: int, exact_digit_limit: int) -> Method:
     ('exact', 'asymptotic')
     """
     if is_trivial(size, count) or size < MIN_SIZE:
-        return "exact"
+        return EXACT
     if exact_cost_digits(size, count) <= exact_digit_limit:
-        return "exact"
-    return "asymptotic"
+        return EXACT
+    return ASYMPTOTIC

@@ -4,24 +4,33 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from fractions import Fraction
-from typing import Literal
 
-Method = Literal["exact", "asymptotic"]
+#: How an answer was computed: an open set of names, so that later questions can add theirs.
+Method = str
+#: Rational arithmetic: decimal texts correctly rounded from the exact value.
+EXACT: Method = "exact"
+#: An expansion with a proven error bound.
+ASYMPTOTIC: Method = "asymptotic"
 
 
 @dataclass(frozen=True, slots=True)
 class Magnitude:
     """A non-negative real number reported three ways.
 
-    :ivar value: nearest float64; may be ``0.0`` (underflow) or ``inf`` (overflow).
+    :ivar value: the float64 nearest to the true value (correctly rounded, subnormals
+        included); may be ``0.0`` (underflow) or ``inf`` (overflow).
     :ivar decimal: scientific text with 20 significant digits, never underflows,
         or ``"0"`` for an exact zero.
-    :ivar log10: base-10 logarithm, ``None`` when the number is exactly zero.
+    :ivar log10: base-10 logarithm, ``None`` when the number is exactly zero; ``+0.0``
+        (never ``-0.0``) when it rounds to zero; ``-inf`` / ``inf`` past the float range.
+    :ivar relative_error_bound: bound on |decimal - true| / true, the rounding to 20
+        digits included; ``0.0`` when ``decimal`` is correctly rounded from the exact value.
     """
 
     value: float
     decimal: str
     log10: float | None
+    relative_error_bound: float = 0.0
 
 
 @dataclass(frozen=True, slots=True)
@@ -30,10 +39,11 @@ class CollisionRisk:
 
     :ivar collision: P(some two identifiers are equal).
     :ivar no_collision: its complement, with its own full relative accuracy.
-    :ivar method: ``"exact"`` (rational arithmetic) or ``"asymptotic"``.
+    :ivar method: ``EXACT`` (rational arithmetic) or ``ASYMPTOTIC``.
     :ivar relative_error_bound: bound on the relative error of both
-        ``decimal`` texts; ``0.0`` on the exact path, where the texts are
-        correctly rounded. The float ``value`` adds at most 2**-53 on top.
+        ``decimal`` texts (the larger of the two Magnitudes' bounds); ``0.0`` on the
+        exact path, where the texts are correctly rounded. Every float ``value`` is
+        correctly rounded from the true value on both paths.
     :ivar exact: the risk as a reduced fraction when numerator and denominator
         have at most 1,000 digits each (exact path only), else ``None``.
     :ivar precision_bits: binary working precision of the asymptotic path
@@ -54,17 +64,20 @@ class CollisionRisk:
 class RelatedFigures:
     """Expected values that accompany a collision risk.
 
-    :ivar expected_colliding_pairs: C(n, 2) / N, exact then rounded.
+    Each Magnitude carries its own ``relative_error_bound``.
+
+    :ivar expected_colliding_pairs: C(n, 2) / N, exact then correctly rounded.
     :ivar expected_distinct: N * (1 - (1 - 1/N)**n).
     :ivar expected_duplicates: n minus the expected number of distinct values.
-    :ivar one_in: 1 / risk ("one in X"), ``None`` when the risk is zero.
+    :ivar reciprocal_risk: 1 / P(collision) ("one in X"), ``None`` when the risk is zero;
+        correctly rounded from the exact risk on the exact path.
     :ivar entropy_bits: log2 N.
     """
 
     expected_colliding_pairs: Magnitude
     expected_distinct: Magnitude
     expected_duplicates: Magnitude
-    one_in: Magnitude | None
+    reciprocal_risk: Magnitude | None
     entropy_bits: float
 
 
