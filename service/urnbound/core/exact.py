@@ -14,6 +14,7 @@ from fractions import Fraction
 import gmpy2
 
 from urnbound.core import precision as mp
+from urnbound.core.errors import NoConvergence
 from urnbound.core.reporting import (
     DECIMAL_DIGITS,
     log10_value,
@@ -111,7 +112,7 @@ def decimal_exponent(numerator: int, denominator: int) -> int:
         if low_ok and high_ok:
             return guess
         guess += 1 if low_ok else -1
-    raise ArithmeticError("decimal exponent search did not settle")  # bit estimate is within 2
+    raise NoConvergence("decimal exponent search did not settle")  # bit estimate is within 2
 
 
 def _ten_power(exponent: int) -> gmpy2.mpz:

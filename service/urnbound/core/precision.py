@@ -14,6 +14,8 @@ from typing import Any
 
 from mpmath import libmp
 
+from urnbound.core.errors import NoConvergence
+
 Real = Any  # an mpmath libmp float tuple (sign, mantissa, exponent, bitcount)
 
 ZERO: Real = libmp.fzero
@@ -151,7 +153,7 @@ def power_series(x: Real, first: int, coefficient: Callable[[int], Real], prec: 
         if is_zero(term) or magnitude_bits(term) < magnitude_bits(total) - prec - 4:
             return libmp.mpf_pos(total, prec, NEAREST)
         power = mul(power, x, work)
-    raise ArithmeticError("power series did not converge")  # unreachable for |x| < 2**-16
+    raise NoConvergence("power series did not converge")  # unreachable for |x| < 2**-16
 
 
 def _unit_fraction(k: int, prec: int) -> Real:
