@@ -139,22 +139,31 @@ def _log2_magnitude(size: int, count: int) -> int:
 
 
 def _tiny_ratio_form(size: int, count: int, target_bits: int) -> LogNoCollision | None:
-    """L = -n(n-1)/(2N) (1 + e) when x = n/N < 2**-(target + GUARD_BITS + 2), else ``None``.
+    """L = -n(n-1)/(2N) (1 + e) when x = n/N is small enough for the accuracy asked, else ``None``.
+
+    The caller needs L to an absolute 2**-E min(1, |L|), E = target + GUARD_BITS, that is
+    to a relative 2**-(E + max(0, log2 |L|)): exp(L) is only as good as L is absolutely.
+    With |L| < 2**m (m from the bit lengths of n(n-1) and N), prec = E + 2 + max(0, m).
 
     The leading series (module docstring) is -(n-1)x/2 plus a rest below n x**2, which is
-    4x relative to it; D is below n/(6NM) (Robbins), 1/(3(n-1)M) relative. With x and 1/M
-    both below 2**-prec, prec = target + GUARD_BITS, and one rounding of the fraction, the
-    relative error is below 3 * 2**-prec (1 + 2**-prec) < 2**(2-prec).
+    4x relative to it; D is below n/(6NM) (Robbins), 1/(3(n-1)M) relative. With
+    x < 2**-(prec+2), 1/M below 2**-prec, and one rounding of the fraction to prec bits,
+    the relative error is below 3 * 2**-prec (1 + 2**-prec) < 2**(2-prec), so the absolute
+    error is below 2**(2 + m - prec) <= 2**-E min(1, 2**m).
 
     >>> est = _tiny_ratio_form(2**8192, 10**60, 64)
     >>> round(mp.to_float(mp.scale2(est.value, 8192)) / -5e119, 12)
     1.0
+    >>> _tiny_ratio_form(2**303, 10**60, 64) is None  # |L| ~ 2**96: x is not small enough
+    True
     """
-    prec = target_bits + GUARD_BITS
+    pairs_twice = count * (count - 1)
+    log2_bound = pairs_twice.bit_length() - size.bit_length()  # |L| < 2**log2_bound
+    prec = target_bits + GUARD_BITS + 2 + max(0, log2_bound)
     if size.bit_length() - count.bit_length() - 1 < prec + 2:  # x < 2**-(gap) needed
         return None
-    value = libmp.from_rational(-count * (count - 1), 2 * size, prec, mp.NEAREST)
-    error = mp.scale2(mp.absolute(value), 2 - prec)
+    value = libmp.from_rational(-pairs_twice, 2 * size, prec, mp.NEAREST)
+    error = libmp.mpf_shift(mp.absolute(value), 2 - prec)
     return LogNoCollision(value, error, prec)
 
 
