@@ -14,9 +14,10 @@ from flask import Flask
 
 from urnbound.api.state import ServiceState
 from urnbound.app import create_app
-from urnbound.cli import WSGI_TARGET, main
+from urnbound.cli import build_cli
 from urnbound.config import Settings
-from urnbound.core.errors import DomainError, NoConvergence
+from urnbound.domain.errors import DomainError, NoConvergence
+from urnbound.serving import WSGI_TARGET
 
 REPO_ROOT = Path(__file__).resolve().parents[1]
 
@@ -167,7 +168,7 @@ def test_serve_execs_gunicorn_with_the_deploy_config(monkeypatch: pytest.MonkeyP
     calls: list[tuple[str, list[str]]] = []
     monkeypatch.setattr(os, "execv", lambda path, argv: calls.append((path, list(argv))))
     monkeypatch.chdir(REPO_ROOT)
-    result = CliRunner().invoke(main, ["serve", "--access-logfile", "-"])
+    result = CliRunner().invoke(build_cli(), ["serve", "--access-logfile", "-"])
     assert result.exit_code == 0, result.output
     ((path, argv),) = calls
     assert path == sys.executable
@@ -177,7 +178,7 @@ def test_serve_execs_gunicorn_with_the_deploy_config(monkeypatch: pytest.MonkeyP
 
 
 def test_serve_refuses_a_missing_config(tmp_path: Path) -> None:
-    result = CliRunner().invoke(main, ["serve", "--config", str(tmp_path / "none.py")])
+    result = CliRunner().invoke(build_cli(), ["serve", "--config", str(tmp_path / "none.py")])
     assert result.exit_code != 0
 
 
@@ -194,6 +195,7 @@ def test_core_and_domain_do_not_import_the_web_stack() -> None:
         "import sys, urnbound, urnbound.core, urnbound.domain\n"
         "import urnbound.core.pairwise, urnbound.core.inverse\n"
         "import urnbound.domain.questions, urnbound.domain.spaces, urnbound.domain.numbers\n"
+        "import urnbound.domain.registry; urnbound.domain.registry.default_registry()\n"
         "print(sorted(m for m in ('flask', 'werkzeug', 'marshmallow', 'apispec') "
         "if m in sys.modules))\n"
     )

@@ -12,7 +12,7 @@ from openapi_spec_validator import validate
 from openapi_spec_validator.validation.exceptions import OpenAPIValidationError
 
 from urnbound.api.openapi import spec_document, spec_yaml
-from urnbound.cli import main
+from urnbound.cli import build_cli
 
 REPO_ROOT = Path(__file__).resolve().parents[1]
 OPENAPI_PATH = REPO_ROOT / "openapi" / "openapi.yaml"
@@ -39,11 +39,11 @@ def test_validator_rejects_a_broken_document(openapi_document: dict[str, Any]) -
 
 def test_document_covers_every_route(openapi_document: dict[str, Any]) -> None:
     assert set(openapi_document["paths"]) == {
-        "/v1/collisions", "/v1/lengths", "/v1/capacity", "/v1/alphabets",
+        "/v1/collisions", "/v1/lengths", "/v1/capacity", "/v1/bits", "/v1/alphabets",
         "/healthz", "/readyz", "/metrics", "/openapi.json",
     }
     names = {p["name"] for p in openapi_document["paths"]["/v1/collisions"]["get"]["parameters"]}
-    assert names == {"bits", "alphabet", "alphabet_size", "alphabet_chars", "length", "size",
+    assert names == {"bits", "alphabet", "alphabet_size", "symbols", "length", "size",
                      "count"}
 
 
@@ -56,22 +56,22 @@ def test_served_document_equals_the_committed_one(client: FlaskClient) -> None:
 
 
 def test_cli_check_passes_on_the_committed_file() -> None:
-    result = CliRunner().invoke(main, ["openapi", "check", str(OPENAPI_PATH)])
+    result = CliRunner().invoke(build_cli(), ["openapi", "check", str(OPENAPI_PATH)])
     assert result.exit_code == 0, result.output
 
 
 def test_cli_check_fails_on_drift(tmp_path: Path) -> None:
     drifted = tmp_path / "openapi.yaml"
     drifted.write_text(spec_yaml().replace("Urnbound", "Something else", 1), encoding="utf-8")
-    result = CliRunner().invoke(main, ["openapi", "check", str(drifted)])
+    result = CliRunner().invoke(build_cli(), ["openapi", "check", str(drifted)])
     assert result.exit_code != 0
     assert "out of date" in result.output
-    missing = CliRunner().invoke(main, ["openapi", "check", str(tmp_path / "absent.yaml")])
+    missing = CliRunner().invoke(build_cli(), ["openapi", "check", str(tmp_path / "absent.yaml")])
     assert missing.exit_code != 0
 
 
 def test_cli_write_then_check(tmp_path: Path) -> None:
     target = tmp_path / "sub" / "openapi.yaml"
-    assert CliRunner().invoke(main, ["openapi", "write", str(target)]).exit_code == 0
+    assert CliRunner().invoke(build_cli(), ["openapi", "write", str(target)]).exit_code == 0
     assert target.read_text(encoding="utf-8") == spec_yaml()
-    assert CliRunner().invoke(main, ["openapi", "check", str(target)]).exit_code == 0
+    assert CliRunner().invoke(build_cli(), ["openapi", "check", str(target)]).exit_code == 0

@@ -10,18 +10,24 @@ from urnbound import __version__
 from urnbound.api import init_api
 from urnbound.api.caching import cache_policy
 from urnbound.api.metrics import build_metrics, multiprocess_dir_from_env
-from urnbound.api.queries import query_schemas
-from urnbound.api.schemas import answer_schemas
-from urnbound.api.state import EXTENSION_KEY, ServiceState
+from urnbound.api.rendering import renderer_for
+from urnbound.api.schemas import HealthSchema
+from urnbound.api.state import EXTENSION_KEY, AnswerSchemas, ServiceState
 from urnbound.config import Settings, setting_names
+from urnbound.domain.question import Context
+from urnbound.domain.registry import Registry, default_registry
 
 
-def create_app(config: Mapping[str, object] | None = None) -> Flask:
+def create_app(
+    config: Mapping[str, object] | None = None, registry: Registry | None = None
+) -> Flask:
     """Create the Urnbound WSGI app.
 
     :param config: overrides; keys naming a :class:`~urnbound.config.Settings` field
         (any case) replace the value read from ``URNBOUND_*`` variables, other keys go
         to ``app.config`` (e.g. ``TESTING``).
+    :param registry: the questions to serve (default: every module of
+        ``urnbound.domain.questions``).
     """
     overrides = dict(config or {})
     names = set(setting_names())
@@ -31,12 +37,12 @@ def create_app(config: Mapping[str, object] | None = None) -> Flask:
     app = Flask("urnbound")
     app.config.update({key: value for key, value in overrides.items() if key.lower() not in names})
     app.logger.setLevel(settings.log_level)
-    app.extensions[EXTENSION_KEY] = build_state(settings)
+    app.extensions[EXTENSION_KEY] = build_state(settings, registry or default_registry())
     init_api(app, settings)
     return app
 
 
-def build_state(settings: Settings) -> ServiceState:
+def build_state(settings: Settings, registry: Registry) -> ServiceState:
     """Fresh state for one app: its own metrics registry, caches and schema instances."""
     # The ETag covers the settings that change an answer's text, not only the version.
     answer_version = f"{__version__};exact_digit_limit={settings.exact_digit_limit}"
@@ -44,6 +50,13 @@ def build_state(settings: Settings) -> ServiceState:
         settings=settings,
         metrics=build_metrics(multiprocess_dir_from_env()),
         caching=cache_policy(settings.cache_entries, answer_version, settings.cache_max_age),
-        queries=query_schemas(),
-        answers=answer_schemas(),
+        registry=registry,
+        renderer=renderer_for(registry),
+        context=context_of(settings),
+        answers=AnswerSchemas(HealthSchema()),
     )
+
+
+def context_of(settings: Settings) -> Context:
+    """The settings that change how questions are computed."""
+    return Context(exact_digit_limit=settings.exact_digit_limit)

@@ -1,75 +1,258 @@
-"""The ``urnbound`` command: write or check the OpenAPI file, and serve under gunicorn."""
+"""The ``urnbound`` command: every registered question offline, ``serve``, and ``openapi``.
+
+``urnbound <question> --<parameter> <value> ...`` answers a question without a server,
+through the same parameter definitions, checks and computation as the API: ``--json``
+prints exactly the body the API returns, and the default is an aligned table for a
+person. Bad input exits with status 2 and one line naming the parameter and the allowed
+form. The commands are generated from a registry, like the HTTP routes.
+"""
 
 from __future__ import annotations
 
-import os
+import json
 import sys
-import tempfile
+import textwrap
+from collections.abc import Iterator, Mapping, Sequence
 from pathlib import Path
+from typing import Any
 
 import click
 
+from urnbound.config import Settings
+from urnbound.domain.errors import DomainError, InvalidQuery, NoConvergence
+from urnbound.domain.parameters import Choice, Parameter
+from urnbound.domain.question import Context, Question, prose
+from urnbound.domain.registry import Registry, default_registry
+
 #: Where the committed OpenAPI document lives, relative to the repository root.
 DEFAULT_OPENAPI_PATH = Path("openapi") / "openapi.yaml"
-#: The gunicorn configuration, relative to the repository root.
-GUNICORN_CONF = Path("deploy") / "gunicorn.conf.py"
-#: The WSGI target gunicorn loads.
-WSGI_TARGET = "urnbound.wsgi:app"
+#: Exit status for input the question does not take (as for a usage error).
+BAD_INPUT = 2
+#: Exit status when the computation itself failed.
+FAILED = 1
+#: Width the table's long texts are wrapped to.
+TABLE_WIDTH = 96
 
 _PATH = click.Path(dir_okay=False, path_type=Path)
 
 
-@click.group()
-@click.version_option(package_name="urnbound")
 def main() -> None:
-    """Urnbound: collision-risk answers for random identifiers."""
+    """Entry point of the ``urnbound`` script."""
+    build_cli()(prog_name="urnbound")
 
 
-@main.group()
-def openapi() -> None:
-    """The OpenAPI document generated from the code."""
+def build_cli(registry: Registry | None = None) -> click.Group:
+    """The command group for ``registry`` (default: the service's questions)."""
+    registry = registry or default_registry()
+    group = click.Group(
+        "urnbound",
+        help="Urnbound: collision-risk answers for random identifiers, offline or served.\n\n"
+        "Each question command takes the parameters of the API endpoint of the same name.",
+    )
+    click.version_option(package_name="urnbound")(group)
+    for question in registry:
+        group.add_command(question_command(question))
+    group.add_command(openapi_group(registry))
+    group.add_command(serve)
+    return group
 
 
-@openapi.command("write")
-@click.argument("path", type=_PATH, default=DEFAULT_OPENAPI_PATH)
-def openapi_write(path: Path) -> None:
-    """Write the document to PATH (default openapi/openapi.yaml)."""
-    from urnbound.api.openapi import spec_yaml
+def question_command(question: Question) -> click.Command:
+    """A command that answers ``question`` from options named as its parameters."""
+    options: list[click.Parameter] = [_option(p) for p in _parameters(question)]
+    options.append(click.Option(["--json", "as_json"], is_flag=True,
+                                help="Print the API's JSON body instead of a table."))
 
-    path.parent.mkdir(parents=True, exist_ok=True)
-    path.write_text(spec_yaml(), encoding="utf-8")
-    click.echo(f"wrote {path}")
+    def answer(as_json: bool, **given: tuple[str, ...]) -> None:
+        raw = {name: list(texts) for name, texts in given.items() if texts}
+        text = _answer_text(question, raw, as_json)
+        click.echo(text)
 
-
-@openapi.command("check")
-@click.argument("path", type=_PATH, default=DEFAULT_OPENAPI_PATH)
-def openapi_check(path: Path) -> None:
-    """Exit non-zero when PATH differs from what the code generates."""
-    from urnbound.api.openapi import spec_yaml
-
-    if not path.is_file():
-        raise click.ClickException(f"{path} does not exist; run `urnbound openapi write {path}`")
-    if path.read_text(encoding="utf-8") != spec_yaml():
-        raise click.ClickException(
-            f"{path} is out of date with the code; run `urnbound openapi write {path}`"
-        )
-    click.echo(f"{path} matches the code")
+    return click.Command(
+        question.name,
+        params=options,
+        callback=answer,
+        help=_help_text(question),
+        short_help=question.summary,
+        epilog=_forms_epilog(question),
+    )
 
 
-def default_gunicorn_conf() -> Path:
-    """``deploy/gunicorn.conf.py`` under the working directory, else beside the source tree."""
-    here = Path.cwd() / GUNICORN_CONF
-    if here.is_file():
-        return here
-    return Path(__file__).resolve().parents[2] / GUNICORN_CONF
+def _parameters(question: Question) -> list[Parameter]:
+    found: dict[str, Parameter] = {}
+    for entry in (*question.inputs, *question.optional):
+        for parameter in entry.parameters if isinstance(entry, Choice) else (entry,):
+            found.setdefault(parameter.name, parameter)
+    return list(found.values())
 
 
-def gunicorn_argv(config: Path, extra: tuple[str, ...]) -> list[str]:
-    """The command line that runs gunicorn with ``config`` on the service."""
-    return [sys.executable, "-m", "gunicorn", "--config", str(config), *extra, WSGI_TARGET]
+def _option(parameter: Parameter) -> click.Option:
+    # multiple=True lets a repeated option reach the same "give this parameter once" check
+    # as a repeated query parameter.
+    return click.Option(
+        [parameter.option, parameter.name],
+        multiple=True,
+        metavar="TEXT",
+        help=f"{parameter.description} Allowed: {parameter.rule}.",
+    )
 
 
-@main.command(context_settings={"ignore_unknown_options": True})
+def _help_text(question: Question) -> str:
+    return prose(question.description).replace("``", "")
+
+
+def _forms_epilog(question: Question) -> str:
+    lines = []
+    for entry in question.inputs:
+        if isinstance(entry, Choice):
+            forms = "; ".join(
+                " + ".join(p.option for p in (form.lead, *form.companions))
+                for form in entry.forms
+            )
+            lines.append(f"Give the {entry.name} as exactly one of: {forms}.")
+    example = " ".join(f"--{name.replace('_', '-')} {text}"
+                       for name, text in question.example.items())
+    lines.append(f"Example: urnbound {question.name} {example}".rstrip())
+    return "\n\n".join(lines)
+
+
+def _answer_text(question: Question, raw: Mapping[str, Sequence[str]], as_json: bool) -> str:
+    from urnbound.api.rendering import renderer_for  # marshmallow only when answering
+
+    try:
+        inputs = question.load(raw)
+        context = Context(exact_digit_limit=Settings.from_env().exact_digit_limit)
+        rendered = renderer_for(Registry((question,))).render(question, inputs, context)
+    except InvalidQuery as error:
+        _fail(question, _error_line(error.errors), BAD_INPUT)
+    except NoConvergence as error:
+        _fail(question, error.detail, FAILED)
+    except DomainError as error:
+        _fail(question, _error_line({error.field or "question": [error.detail]}), BAD_INPUT)
+    body = rendered.body.decode()
+    return body if as_json else table(json.loads(body))
+
+
+def _error_line(errors: Mapping[str, list[str]]) -> str:
+    """``--count: count must be ...``: every field at fault, on one line."""
+    parts = []
+    for name in sorted(errors):
+        label = "--" + name.replace("_", "-")
+        parts.append(f"{label}: {' '.join(errors[name])}")
+    return "; ".join(parts)
+
+
+def _fail(question: Question, message: str, status: int) -> Any:
+    click.echo(f"urnbound {question.name}: error: {message}", err=True)
+    sys.exit(status)
+
+
+def table(document: Mapping[str, Any]) -> str:
+    """An answer document as aligned ``label  value`` lines, long texts wrapped.
+
+    >>> print(table({"count": "22", "collision": {"value": 0.47, "decimal": "4.7e-1",
+    ...     "log10": -0.33, "relative_error_bound": 0.0}, "exact": None}))
+    count      22
+    collision  4.7e-1  (log10 -0.33)
+    exact      none
+    """
+    grids = {key: value for key, value in document.items() if _is_grid(value)}
+    rows = [row for key, value in document.items() if key not in grids
+            for row in _rows(key, value)]
+    width = max((len(label) for label, _ in rows), default=0)
+    lines = [line for key, value in grids.items() for line in _grid(key, value)]
+    for label, text in rows:
+        wrapped = textwrap.wrap(text, max(TABLE_WIDTH - width - 2, 20)) or [""]
+        lines.append(f"{label.ljust(width)}  {wrapped[0]}".rstrip())
+        lines += [" " * (width + 2) + more for more in wrapped[1:]]
+    return "\n".join(lines)
+
+
+def _is_grid(value: Any) -> bool:
+    """A non-empty list of flat records, shown as columns."""
+    return isinstance(value, list) and bool(value) and all(
+        isinstance(item, Mapping) and not any(isinstance(v, (Mapping, list)) for v in item.values())
+        for item in value
+    )
+
+
+def _grid(label: str, records: list[Mapping[str, Any]]) -> list[str]:
+    """``label`` and then the records as aligned columns under a header line."""
+    columns = list(records[0])
+    cells = [columns] + [[_scalar_text(record.get(c)) for c in columns] for record in records]
+    widths = [max(len(row[i]) for row in cells) for i in range(len(columns))]
+    lines = [f"{label}:"]
+    for row in cells:
+        padded = (cell.ljust(width) for cell, width in zip(row, widths, strict=True))
+        lines.append(("  " + "  ".join(padded)).rstrip())
+    return lines
+
+
+def _rows(label: str, value: Any) -> Iterator[tuple[str, str]]:
+    if isinstance(value, Mapping) and "decimal" in value:
+        yield label, _magnitude_text(value)
+    elif isinstance(value, Mapping):
+        for key, item in value.items():
+            yield from _rows(f"{label}.{key}" if label else key, item)
+    elif isinstance(value, list):
+        for index, item in enumerate(value):
+            yield from _rows(f"{label}[{index}]", item)
+    else:
+        yield label, _scalar_text(value)
+
+
+def _magnitude_text(value: Mapping[str, Any]) -> str:
+    text = str(value["decimal"])
+    notes = []
+    if value.get("log10") is not None:
+        notes.append(f"log10 {value['log10']:.6g}")
+    bound = value.get("relative_error_bound")
+    if bound:
+        notes.append(f"relative error < {bound:.3g}")
+    return f"{text}  ({', '.join(notes)})" if notes else text
+
+
+def _scalar_text(value: Any) -> str:
+    if value is None:
+        return "none"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    return str(value)
+
+
+def openapi_group(registry: Registry) -> click.Group:
+    """``urnbound openapi write|check`` for ``registry``'s document."""
+    group = click.Group("openapi", help="The OpenAPI document generated from the code.")
+
+    @group.command("write")
+    @click.argument("path", type=_PATH, default=DEFAULT_OPENAPI_PATH)
+    def openapi_write(path: Path) -> None:
+        """Write the document to PATH (default openapi/openapi.yaml)."""
+        from urnbound.api.openapi import spec_yaml
+
+        path.parent.mkdir(parents=True, exist_ok=True)
+        path.write_text(spec_yaml(registry), encoding="utf-8")
+        click.echo(f"wrote {path}")
+
+    @group.command("check")
+    @click.argument("path", type=_PATH, default=DEFAULT_OPENAPI_PATH)
+    def openapi_check(path: Path) -> None:
+        """Exit non-zero when PATH differs from what the code generates."""
+        from urnbound.api.openapi import spec_yaml
+
+        if not path.is_file():
+            raise click.ClickException(
+                f"{path} does not exist; run `urnbound openapi write {path}`")
+        if path.read_text(encoding="utf-8") != spec_yaml(registry):
+            raise click.ClickException(
+                f"{path} is out of date with the code; run `urnbound openapi write {path}`"
+            )
+        click.echo(f"{path} matches the code")
+
+    return group
+
+
+@click.command(context_settings={"ignore_unknown_options": True})
 @click.option(
     "--config",
     "config",
@@ -82,13 +265,13 @@ def serve(config: Path | None, gunicorn_args: tuple[str, ...]) -> None:
     """Replace this process with gunicorn serving the service.
 
     Settings come from URNBOUND_* variables; extra arguments go to gunicorn. Unless
-    PROMETHEUS_MULTIPROC_DIR is already set, a fresh empty directory is made for it, so
-    that /metrics adds up every worker's counts.
+    PROMETHEUS_MULTIPROC_DIR is already set, a fresh directory is made for it and removed
+    when gunicorn exits, so that /metrics adds up every worker's counts.
     """
-    conf = config or default_gunicorn_conf()
-    if not conf.is_file():
-        raise click.ClickException(f"gunicorn configuration not found at {conf}; use --config")
-    if not os.environ.get("PROMETHEUS_MULTIPROC_DIR"):
-        os.environ["PROMETHEUS_MULTIPROC_DIR"] = tempfile.mkdtemp(prefix="urnbound-metrics-")
-    argv = gunicorn_argv(conf, gunicorn_args)
-    os.execv(argv[0], argv)
+    from urnbound.serving import ServeError
+    from urnbound.serving import serve as run_gunicorn
+
+    try:
+        run_gunicorn(config, gunicorn_args)
+    except ServeError as error:
+        raise click.ClickException(str(error)) from error

@@ -74,7 +74,9 @@ def test_pigeonhole_gives_certainty(client: FlaskClient, conforms: Conforms) -> 
     conforms(response, PATH)
     body = response.get_json()
     assert body["collision"]["value"] == 1.0
-    assert body["no_collision"] == {"value": 0.0, "decimal": "0", "log10": None}
+    assert body["no_collision"] == {"value": 0.0, "decimal": "0", "log10": None,
+                                    "relative_error_bound": 0.0}
+    assert body["collision"]["log10"] == 0.0 and "-0.0" not in response.get_data(as_text=True)
     assert body["exact"] == {"numerator": "1", "denominator": "1"}
 
 
@@ -82,8 +84,10 @@ def test_zero_count_has_zero_risk(client: FlaskClient, conforms: Conforms) -> No
     response = ask(client, "bits=64&count=0")
     conforms(response, PATH)
     body = response.get_json()
-    assert body["collision"] == {"value": 0.0, "decimal": "0", "log10": None}
-    assert body["one_in"] is None
+    assert body["collision"] == {"value": 0.0, "decimal": "0", "log10": None,
+                                 "relative_error_bound": 0.0}
+    assert body["no_collision"]["log10"] == 0.0 and "-0.0" not in response.get_data(as_text=True)
+    assert body["reciprocal_risk"] is None
 
 
 def _mpmath_risk(size: int, count: int) -> mpmath.mpf:
@@ -123,8 +127,8 @@ def test_tiny_risk_never_underflows(client: FlaskClient, conforms: Conforms) -> 
     assert body["collision"]["log10"] == pytest.approx(-8192 * 0.30102999566398120, rel=1e-15)
     mantissa, exponent = body["collision"]["decimal"].split("e")
     assert int(exponent) == -2467
-    assert body["one_in"]["value"] is None  # 2^8192 is beyond float64: null, decimal kept
-    assert body["one_in"]["decimal"].endswith("e2466")
+    assert body["reciprocal_risk"]["value"] is None  # 2^8192 is beyond float64: null, decimal kept
+    assert body["reciprocal_risk"]["decimal"].endswith("e2466")
 
 
 @pytest.mark.parametrize(
@@ -135,8 +139,8 @@ def test_tiny_risk_never_underflows(client: FlaskClient, conforms: Conforms) -> 
         "size=2.56e2&count=2e1",
         "alphabet_size=2&length=8&count=20",
         "alphabet=base16&length=2&count=20",
-        "alphabet_chars=0123456789abcdef&length=2&count=20",
-        "alphabet_chars=01%2B-&length=4&count=20",  # %2B: a literal + symbol
+        "symbols=0123456789abcdef&length=2&count=20",
+        "symbols=01%2B-&length=4&count=20",  # %2B: a literal + symbol
     ],
 )
 def test_every_space_form_gives_the_same_risk(client: FlaskClient, query: str) -> None:

@@ -32,7 +32,7 @@ def test_readyz_runs_the_core_self_checks(client: FlaskClient, conforms: Conform
 
 
 def test_self_checks_cover_both_paths() -> None:
-    from urnbound.domain.questions import collision_report
+    from urnbound.domain.questions.collisions import collision_report
     from urnbound.domain.spaces import space_from_size
 
     methods = {

@@ -71,7 +71,7 @@ def test_length_one_has_no_shorter_neighbour(client: FlaskClient, conforms: Conf
 
 
 def test_literal_alphabet(client: FlaskClient, conforms: Conforms) -> None:
-    response = client.get(f"{PATH}?alphabet_chars=0123456789abcdef&count=1e6&max_risk=1e-6")
+    response = client.get(f"{PATH}?symbols=0123456789abcdef&count=1e6&max_risk=1e-6")
     conforms(response, PATH)
     hex_named = client.get(f"{PATH}?alphabet=base16&count=1e6&max_risk=1e-6").get_json()
     assert response.get_json()["length"] == hex_named["length"]

@@ -107,7 +107,7 @@ def test_literal_symbols_keep_their_order() -> None:
 def test_repeated_symbol_is_named() -> None:
     with pytest.raises(DomainError) as caught:
         alphabet_from_symbols("abcb")
-    assert caught.value.field == "alphabet_chars"
+    assert caught.value.field == "symbols"
     assert "'b'" in caught.value.detail
 
 
@@ -115,7 +115,7 @@ def test_repeated_symbol_is_named() -> None:
 def test_too_few_symbols(chars: str) -> None:
     with pytest.raises(DomainError) as caught:
         alphabet_from_symbols(chars)
-    assert caught.value.field == "alphabet_chars"
+    assert caught.value.field == "symbols"
     assert "from 2 to 65,536" in caught.value.detail
 
 
@@ -124,7 +124,7 @@ def test_symbol_count_limits() -> None:
     assert alphabet_from_symbols(largest).size == 2**16
     with pytest.raises(DomainError) as caught:
         alphabet_from_symbols(largest + "a")
-    assert caught.value.field == "alphabet_chars"
+    assert caught.value.field == "symbols"
 
 
 @given(st.sets(st.characters(), min_size=2, max_size=200))

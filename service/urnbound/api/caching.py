@@ -12,6 +12,8 @@ from typing import Any, Generic, Protocol, TypeVar
 
 from flask import Response, request
 
+from urnbound.api.rendering import CachedAnswer
+
 #: Media type of every answer body.
 JSON_MEDIA_TYPE = "application/json"
 
@@ -24,14 +26,6 @@ class Normalizable(Protocol):
     """A parsed question that can state itself in canonical form."""
 
     def normalized(self) -> Mapping[str, object]: ...
-
-
-@dataclass(frozen=True, slots=True)
-class CachedAnswer:
-    """A serialized answer body and the core method that produced it (if any)."""
-
-    body: bytes
-    method: str | None = None
 
 
 def question_digest(version: str, endpoint: str, inputs: Mapping[str, object]) -> str:
@@ -157,11 +151,6 @@ def _with_cache_headers(response: Response, etag: str, max_age: int) -> Response
     response.headers["ETag"] = f'"{etag}"'
     response.headers["Cache-Control"] = f"public, max-age={max_age}"
     return response
-
-
-def json_body(document: Mapping[str, object]) -> bytes:
-    """Serialize an answer as strict JSON (no NaN or Infinity)."""
-    return json.dumps(document, allow_nan=False, separators=(",", ":")).encode()
 
 
 def _jsonable(value: object) -> object:

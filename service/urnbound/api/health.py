@@ -5,12 +5,11 @@ from __future__ import annotations
 import json
 from dataclasses import dataclass
 
-from flask import Blueprint, Response, current_app, request
+from flask import Blueprint, Response, current_app
 
 from urnbound.api.problems import NOT_READY, problem_response, typed_problem
-from urnbound.api.queries import load_query
 from urnbound.api.state import service_state
-from urnbound.domain.questions import collision_report
+from urnbound.domain.questions.collisions import collision_report
 from urnbound.domain.spaces import space_from_size
 
 blueprint = Blueprint("health", __name__)
@@ -57,7 +56,6 @@ def no_store(document: dict[str, object], status: int = 200) -> Response:
 def healthz() -> Response:
     """The process is alive and serving."""
     state = service_state()
-    load_query(state.queries.empty, request.args)
     return no_store(state.answers.health.dump({"status": "ok"}))
 
 
@@ -65,7 +63,6 @@ def healthz() -> Response:
 def readyz() -> Response:
     """The numerical core answers the self-checks correctly."""
     state = service_state()
-    load_query(state.queries.empty, request.args)
     limit = state.settings.exact_digit_limit
     outcomes = {check.name: _outcome(check, limit) for check in SELF_CHECKS}
     failed = sorted(name for name, outcome in outcomes.items() if outcome != "passed")

@@ -8,20 +8,22 @@ from typing import Any
 import yaml
 from apispec import APISpec
 from apispec.ext.marshmallow import MarshmallowPlugin
-from flask import Blueprint, Response, request
-from marshmallow import Schema
+from flask import Blueprint, Response
 
 from urnbound import __version__
-from urnbound.api import queries, schemas
+from urnbound.api import schemas
 from urnbound.api.problems import PROBLEM_MEDIA_TYPE
-from urnbound.domain.questions import ASSUMPTION
+from urnbound.api.state import service_state
+from urnbound.domain.parameters import Choice, Parameter
+from urnbound.domain.question import ASSUMPTION, Question, prose
+from urnbound.domain.registry import Registry, default_registry
 
 blueprint = Blueprint("openapi", __name__)
 
 DESCRIPTION = (
-    "Collision risk, safe identifier length and capacity for random identifiers "
-    "(the birthday bound), exact at small scale and with a stated error bound at large "
-    "scale. Big integers travel as decimal strings. Every error is RFC 9457 "
+    "Collision risk, safe identifier length, random bits and capacity for random "
+    "identifiers (the birthday bound), exact at small scale and with a stated error bound "
+    "at large scale. Big integers travel as decimal strings. Every error is RFC 9457 "
     "application/problem+json. " + ASSUMPTION
 )
 
@@ -41,23 +43,51 @@ def _problem(description: str) -> dict[str, Any]:
     return {"description": description, "content": {PROBLEM_MEDIA_TYPE: {"schema": "Problem"}}}
 
 
-def _answer_operation(summary: str, query: type[Schema] | None, answer: str) -> dict[str, Any]:
+def _answer_operation(question: Question) -> dict[str, Any]:
     responses: dict[str, Any] = {
         "200": {
-            "description": summary,
+            "description": question.summary,
             "headers": _CACHE_HEADERS,
-            "content": {"application/json": {"schema": answer}},
+            "content": {"application/json": {"schema": schemas.component_name(question)}},
         },
         "304": {"description": "Not modified: If-None-Match matched the ETag.",
                 "headers": _CACHE_HEADERS},
-        "422": _problem("Missing, malformed, unknown or out-of-range parameters."),
+        "422": _problem("Missing, malformed, unknown, repeated or out-of-range parameters, "
+                        "or a question with no answer within the service's limits."),
         "4XX": _problem("Other client error (404, 405, ...)."),
         "5XX": _problem("Server error."),
     }
-    operation: dict[str, Any] = {"summary": summary, "responses": responses}
-    if query is not None:
-        operation["parameters"] = [{"in": "query", "schema": query}]
-    return operation
+    return {
+        "operationId": question.name,
+        "summary": question.summary,
+        "description": prose(question.description),
+        "parameters": query_parameters(question),
+        "responses": responses,
+    }
+
+
+def query_parameters(question: Question) -> list[dict[str, Any]]:
+    """The OpenAPI parameter objects of a question, from its parameter definitions."""
+    documented: list[dict[str, Any]] = []
+    for entry in question.inputs:
+        if isinstance(entry, Choice):
+            note = f" One form of {entry.name}: give exactly one of {entry.forms_text}."
+            documented += [_parameter(p, False, note) for p in entry.parameters]
+        else:
+            documented.append(_parameter(entry, True, ""))
+    documented += [_parameter(p, False, "") for p in question.optional]
+    return documented
+
+
+def _parameter(parameter: Parameter, required: bool, note: str) -> dict[str, Any]:
+    return {
+        "name": parameter.name,
+        "in": "query",
+        "required": required,
+        "description": f"{parameter.description} Allowed: {parameter.rule}.{note}",
+        "schema": dict(parameter.schema),
+        "example": parameter.example,
+    }
 
 
 def _plain_operation(summary: str, answer: str, failure: str) -> dict[str, Any]:
@@ -84,8 +114,9 @@ def _metrics_operation() -> dict[str, Any]:
     }
 
 
-def build_spec() -> APISpec:
-    """The service's OpenAPI 3.1 document as an :class:`APISpec`."""
+def build_spec(registry: Registry | None = None) -> APISpec:
+    """The service's OpenAPI 3.1 document for ``registry`` (default: the service's own)."""
+    registry = registry or default_registry()
     spec = APISpec(
         title="Urnbound",
         version=__version__,
@@ -94,32 +125,20 @@ def build_spec() -> APISpec:
         info={"description": DESCRIPTION, "license": {"name": "MIT", "identifier": "MIT"}},
     )
     spec.components.schema("Problem", schema=schemas.ProblemSchema)
-    paths: dict[str, dict[str, Any]] = {
-        "/v1/collisions": _answer_operation(
-            "Collision risk of count identifiers from one space.",
-            queries.CollisionQuerySchema, "Collision"),
-        "/v1/lengths": _answer_operation(
-            "Shortest identifier length over an alphabet within max_risk.",
-            queries.LengthQuerySchema, "Length"),
-        "/v1/capacity": _answer_operation(
-            "Largest count a space takes within max_risk.",
-            queries.CapacityQuerySchema, "Capacity"),
-        "/v1/alphabets": _answer_operation(
-            "The named alphabets.", None, "AlphabetList"),
-        "/healthz": _plain_operation("The process is alive.", "Health", ""),
-        "/readyz": _plain_operation(
-            "The numerical core passed its self-check.", "Health", "Self-check failed."),
-        "/metrics": _metrics_operation(),
+    spec.components.schema("Health", schema=schemas.HealthSchema)
+    for question in registry:
+        spec.components.schema(schemas.component_name(question),
+                               schema=schemas.answer_schema(question))
+        spec.path(path=question.path, operations={"get": _answer_operation(question)})
+    fixed = {
+        "/healthz": ("healthz", _plain_operation("The process is alive.", "Health", "")),
+        "/readyz": ("readyz", _plain_operation(
+            "The numerical core passed its self-check.", "Health", "Self-check failed.")),
+        "/metrics": ("metrics", _metrics_operation()),
+        "/openapi.json": ("openapi", _openapi_operation()),
     }
-    for schema in (schemas.CollisionSchema, schemas.LengthSchema, schemas.CapacitySchema,
-                   schemas.AlphabetListSchema, schemas.HealthSchema):
-        spec.components.schema(schema.__name__.removesuffix("Schema"), schema=schema)
-    for path, operation in paths.items():
-        operation_id = path.strip("/").replace("v1/", "").replace("/", "_")
+    for path, (operation_id, operation) in fixed.items():
         spec.path(path=path, operations={"get": {"operationId": operation_id, **operation}})
-    spec.path(
-        path="/openapi.json", operations={"get": {"operationId": "openapi", **_openapi_operation()}}
-    )
     return spec
 
 
@@ -131,23 +150,23 @@ def _openapi_operation() -> dict[str, Any]:
     }
 
 
-def spec_document() -> dict[str, Any]:
+def spec_document(registry: Registry | None = None) -> dict[str, Any]:
     """The document as plain data, top-level keys in the customary order."""
     # A JSON round trip unshares repeated objects, so the YAML has no anchors or aliases.
-    raw: dict[str, Any] = json.loads(json.dumps(build_spec().to_dict()))
+    raw: dict[str, Any] = json.loads(json.dumps(build_spec(registry).to_dict()))
     order = ("openapi", "info", "paths", "components")
     return {key: raw[key] for key in (*order, *sorted(set(raw) - set(order))) if key in raw}
 
 
-def spec_yaml() -> str:
+def spec_yaml(registry: Registry | None = None) -> str:
     """The document as YAML text, exactly as committed in ``openapi/openapi.yaml``."""
-    text: str = yaml.safe_dump(spec_document(), sort_keys=False, allow_unicode=True, width=100)
+    text: str = yaml.safe_dump(spec_document(registry), sort_keys=False, allow_unicode=True,
+                               width=100)
     return text
 
 
 @blueprint.get("/openapi.json")
 def openapi_json() -> Response:
-    """Serve the document."""
-    queries.load_query(queries.EmptyQuerySchema(), request.args)
-    body = json.dumps(spec_document(), separators=(",", ":"))
+    """Serve the document of this app's questions (any query string is ignored)."""
+    body = json.dumps(spec_document(service_state().registry), separators=(",", ":"))
     return Response(body, mimetype="application/json")

@@ -12,7 +12,7 @@ from marshmallow import ValidationError
 from werkzeug.datastructures import Headers
 from werkzeug.exceptions import HTTPException
 
-from urnbound.core.errors import NoConvergence, ServiceError
+from urnbound.domain.errors import InvalidQuery, NoConvergence, ServiceError
 
 PROBLEM_MEDIA_TYPE = "application/problem+json"
 
@@ -108,6 +108,8 @@ def handle_validation_error(error: ValidationError) -> Response:
 
 def handle_service_error(error: ServiceError) -> Response:
     """Errors raised on purpose by the domain and the core."""
+    if isinstance(error, InvalidQuery):
+        return problem_response(typed_problem(INVALID_QUERY, error.detail, error.errors))
     if isinstance(error, NoConvergence):
         current_app.logger.error("no convergence: %s", error.detail)
         return problem_response(typed_problem(NO_CONVERGENCE, error.detail))

@@ -1,15 +1,22 @@
-"""Response schemas: domain reports dump to the JSON documented in the OpenAPI file."""
+"""Response schemas: the shapes of answer members, and each question's answer schema.
+
+A question declares its answer members by kind (``domain/question.py``); here each kind
+maps to one marshmallow field, and :func:`answer_schema` builds a question's schema from
+its members, in their order, ending with ``assumptions`` when the question has a premise.
+The same schema dumps the answer (for HTTP and for ``urnbound <question> --json``) and
+documents it in the OpenAPI file. No Flask here: the command line imports this module.
+"""
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from collections.abc import Callable, Mapping
+from types import MappingProxyType
 from typing import Any
 
-from marshmallow import Schema, fields, pre_dump
+from marshmallow import Schema, fields
 
-from urnbound.core.results import CollisionRisk, Magnitude
-from urnbound.domain.questions import ASSUMPTION
+from urnbound.domain.question import AnswerField, Question
 
 
 class WholeText(fields.String):
@@ -20,12 +27,12 @@ class WholeText(fields.String):
 
 
 class FiniteFloat(fields.Float):
-    """A float64 that is written as null when it is not finite (JSON has no Infinity)."""
+    """A float64 written as null when it is not finite (JSON has no Infinity), never as -0."""
 
     def _serialize(self, value: Any, attr: str | None, obj: Any, **kwargs: Any) -> float | None:
         if value is None or not math.isfinite(value):
             return None
-        return float(value)
+        return float(value) + 0.0  # -0.0 + 0.0 is +0.0
 
 
 class MagnitudeSchema(Schema):
@@ -48,6 +55,11 @@ class MagnitudeSchema(Schema):
         required=True,
         allow_none=True,
         metadata={"description": "Base-10 logarithm; null when the number is exactly zero."},
+    )
+    relative_error_bound = FiniteFloat(
+        required=True,
+        metadata={"description": "Bound on the relative error of decimal (0 when it is "
+                                 "correctly rounded from the exact value)."},
     )
 
 
@@ -74,155 +86,6 @@ class SpaceSchema(Schema):
     length = fields.Integer(
         required=True, allow_none=True, metadata={"description": "Positions per identifier."}
     )
-
-
-def _assumptions() -> fields.String:
-    return fields.String(
-        required=True,
-        dump_default=ASSUMPTION,
-        metadata={"description": "The premise every figure rests on."},
-    )
-
-
-def _probability(description: str, *, allow_none: bool = False) -> fields.Nested:
-    return fields.Nested(
-        ProbabilitySchema,
-        required=True,
-        allow_none=allow_none,
-        metadata={"description": description},
-    )
-
-
-def _magnitude(description: str, *, allow_none: bool = False) -> fields.Nested:
-    return fields.Nested(
-        MagnitudeSchema,
-        required=True,
-        allow_none=allow_none,
-        metadata={"description": description},
-    )
-
-
-class CollisionSchema(Schema):
-    """Answer of GET /v1/collisions."""
-
-    space = fields.Nested(SpaceSchema, required=True)
-    count = WholeText(required=True, metadata={"description": "Identifiers drawn."})
-    collision = _probability("P(at least two identifiers are equal).")
-    no_collision = _probability("P(all identifiers are distinct), the complement.")
-    expected_colliding_pairs = _magnitude("Expected number of equal pairs, C(count, 2) / size.")
-    expected_duplicates = _magnitude("Expected count minus expected number of distinct values.")
-    one_in = _magnitude("1 / collision, the odds 'one in X'; null for zero risk.", allow_none=True)
-    method = fields.String(
-        required=True,
-        metadata={"enum": ["exact", "asymptotic"], "description": "Which path computed it."},
-    )
-    relative_error_bound = fields.Float(
-        required=True,
-        metadata={"description": "Bound on the relative error of both decimal texts."},
-    )
-    exact = fields.Nested(
-        ExactFractionSchema,
-        required=True,
-        allow_none=True,
-        metadata={"description": "The risk as a reduced fraction, when small enough."},
-    )
-    assumptions = _assumptions()
-
-    @pre_dump
-    def flatten(self, report: Any, **kwargs: Any) -> dict[str, Any]:
-        risk: CollisionRisk = report.risk
-        return {
-            "space": report.space,
-            "count": report.count,
-            "collision": risk.collision,
-            "no_collision": risk.no_collision,
-            "expected_colliding_pairs": report.figures.expected_colliding_pairs,
-            "expected_duplicates": report.figures.expected_duplicates,
-            "one_in": report.figures.one_in,
-            "method": risk.method,
-            "relative_error_bound": risk.relative_error_bound,
-            "exact": risk.exact,
-        }
-
-
-def _collision_of(risk: CollisionRisk | None) -> Magnitude | None:
-    return None if risk is None else risk.collision
-
-
-def _method_field() -> fields.String:
-    return fields.String(
-        required=True,
-        metadata={"enum": ["exact", "asymptotic"],
-                  "description": "Which path computed the risk at the answer."},
-    )
-
-
-def _bound_field() -> fields.Float:
-    return fields.Float(
-        required=True,
-        metadata={"description": "Bound on the relative error of the decimal texts of both "
-                                 "reported risks (0 when both are exact)."},
-    )
-
-
-def _boundary_figures(answer: CollisionRisk, neighbour: CollisionRisk | None) -> dict[str, Any]:
-    """method and error bound of an inverse answer's two reported risks."""
-    bounds = [answer.relative_error_bound]
-    if neighbour is not None:
-        bounds.append(neighbour.relative_error_bound)
-    return {"method": answer.method, "relative_error_bound": max(bounds)}
-
-
-class LengthSchema(Schema):
-    """Answer of GET /v1/lengths."""
-
-    length = fields.Integer(required=True, metadata={"description": "Shortest safe length."})
-    entropy_bits = fields.Float(required=True, metadata={"description": "log2 of the space."})
-    collision = _probability("Risk at that length.")
-    collision_one_shorter = _probability(
-        "Risk one symbol shorter (above max_risk); null when length is 1.", allow_none=True
-    )
-    space = fields.Nested(SpaceSchema, required=True)
-    count = WholeText(required=True, metadata={"description": "Identifiers drawn."})
-    method = _method_field()
-    relative_error_bound = _bound_field()
-    assumptions = _assumptions()
-
-    @pre_dump
-    def flatten(self, report: Any, **kwargs: Any) -> dict[str, Any]:
-        answer = report.answer
-        return {
-            "length": answer.length,
-            "entropy_bits": report.space.bits,
-            "collision": answer.at_length.collision,
-            "collision_one_shorter": _collision_of(answer.one_shorter),
-            "space": report.space,
-            "count": report.count,
-            **_boundary_figures(answer.at_length, answer.one_shorter),
-        }
-
-
-class CapacitySchema(Schema):
-    """Answer of GET /v1/capacity."""
-
-    count = WholeText(required=True, metadata={"description": "Largest count within max_risk."})
-    collision = _probability("Risk at that count.")
-    collision_one_more = _probability("Risk with one identifier more (above max_risk).")
-    space = fields.Nested(SpaceSchema, required=True)
-    method = _method_field()
-    relative_error_bound = _bound_field()
-    assumptions = _assumptions()
-
-    @pre_dump
-    def flatten(self, report: Any, **kwargs: Any) -> dict[str, Any]:
-        answer = report.answer
-        return {
-            "count": answer.count,
-            "collision": answer.at_count.collision,
-            "collision_one_more": answer.one_more.collision,
-            "space": report.space,
-            **_boundary_figures(answer.at_count, answer.one_more),
-        }
 
 
 class AlphabetSchema(Schema):
@@ -274,19 +137,61 @@ class ProblemSchema(Schema):
     )
 
 
-@dataclass(frozen=True, slots=True)
-class AnswerSchemas:
-    """One instance of each answer schema, built once per app."""
-
-    collision: CollisionSchema
-    length: LengthSchema
-    capacity: CapacitySchema
-    alphabets: AlphabetListSchema
-    health: HealthSchema
 
 
-def answer_schemas() -> AnswerSchemas:
-    """Fresh instances of the answer schemas."""
-    return AnswerSchemas(
-        CollisionSchema(), LengthSchema(), CapacitySchema(), AlphabetListSchema(), HealthSchema()
-    )
+def _nested(schema: type[Schema]) -> Callable[[AnswerField], fields.Field[Any]]:
+    def make(member: AnswerField) -> fields.Field[Any]:
+        return fields.Nested(schema, **_common(member))
+
+    return make
+
+
+def _common(member: AnswerField) -> dict[str, Any]:
+    metadata: dict[str, Any] = {"description": member.description}
+    if member.enum:
+        metadata["enum"] = list(member.enum)
+    return {"required": True, "allow_none": member.nullable, "metadata": metadata}
+
+
+def _plain(field_type: type[fields.Field[Any]]) -> Callable[[AnswerField], fields.Field[Any]]:
+    def make(member: AnswerField) -> fields.Field[Any]:
+        return field_type(**_common(member))
+
+    return make
+
+
+def _alphabet_list(member: AnswerField) -> fields.Field[Any]:
+    return fields.List(fields.Nested(AlphabetSchema), **_common(member))
+
+
+#: The marshmallow field of each kind of answer member.
+KIND_FIELDS: Mapping[str, Callable[[AnswerField], fields.Field[Any]]] = MappingProxyType({
+    "probability": _nested(ProbabilitySchema),
+    "magnitude": _nested(MagnitudeSchema),
+    "whole": _plain(WholeText),
+    "integer": _plain(fields.Integer),
+    "number": _plain(FiniteFloat),
+    "text": _plain(fields.String),
+    "space": _nested(SpaceSchema),
+    "fraction": _nested(ExactFractionSchema),
+    "alphabets": _alphabet_list,
+})
+
+
+def component_name(question: Question) -> str:
+    """The OpenAPI component of a question's answer: ``collisions`` -> ``CollisionsAnswer``."""
+    return "".join(part.capitalize() for part in question.name.split("_")) + "Answer"
+
+
+def answer_schema(question: Question) -> type[Schema]:
+    """The schema of ``question``'s answer, members in declared order."""
+    members: dict[str, fields.Field[Any]] = {
+        member.name: KIND_FIELDS[member.kind](member) for member in question.answer
+    }
+    if question.premise is not None:
+        members["assumptions"] = fields.String(
+            required=True,
+            dump_default=question.premise,
+            metadata={"description": "The premise every figure rests on."},
+        )
+    return Schema.from_dict(members, name=component_name(question))

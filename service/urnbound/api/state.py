@@ -8,22 +8,36 @@ from flask import current_app
 
 from urnbound.api.caching import CachePolicy
 from urnbound.api.metrics import Metrics
-from urnbound.api.queries import QuerySchemas
-from urnbound.api.schemas import AnswerSchemas
+from urnbound.api.rendering import Renderer
+from urnbound.api.schemas import HealthSchema
 from urnbound.config import Settings
+from urnbound.domain.question import Context
+from urnbound.domain.registry import Registry
 
 #: Key of the state in ``app.extensions``.
 EXTENSION_KEY = "urnbound"
 
 
 @dataclass(frozen=True, slots=True)
+class AnswerSchemas:
+    """Schema instances of the answers that are not registered questions."""
+
+    health: HealthSchema
+
+
+@dataclass(frozen=True, slots=True)
 class ServiceState:
-    """Everything an app owns: settings, metrics, caches and schema instances."""
+    """Everything an app owns: settings, metrics, caches, its questions and their schemas.
+
+    :ivar context: the settings that change how questions are computed.
+    """
 
     settings: Settings
     metrics: Metrics
     caching: CachePolicy
-    queries: QuerySchemas
+    registry: Registry
+    renderer: Renderer
+    context: Context
     answers: AnswerSchemas
 
 

@@ -8,11 +8,7 @@ from types import MappingProxyType
 from typing import Final
 
 from urnbound.core.errors import DomainError
-
-#: Fewest symbols an alphabet may have (one symbol gives a space of one value).
-MIN_ALPHABET_SIZE: Final = 2
-#: Most symbols an alphabet may have.
-MAX_ALPHABET_SIZE: Final = 2**16
+from urnbound.core.limits import MAX_ALPHABET_SIZE, MIN_ALPHABET_SIZE
 
 _DIGITS = "0123456789"
 _UPPER = "ABCDEFGHIJKLMNOPQRSTUVWXYZ"
@@ -73,14 +69,14 @@ NAMED_ALPHABETS: Final[Mapping[str, Alphabet]] = _registry()
 
 
 def named_alphabet(name: str) -> Alphabet:
-    """Return the registered alphabet called ``name``.
+    """Return the registered alphabet called ``name``, matched without regard to case.
 
     :raises DomainError: (field ``alphabet``) for an unknown name; the detail lists the names.
 
-    >>> named_alphabet("base32hex").size
-    32
+    >>> named_alphabet("base32hex").size, named_alphabet("Base64URL").name
+    (32, 'base64url')
     """
-    alphabet = NAMED_ALPHABETS.get(name)
+    alphabet = NAMED_ALPHABETS.get(name.strip().lower())
     if alphabet is None:
         names = ", ".join(NAMED_ALPHABETS)
         raise DomainError(f"alphabet must be one of: {names}", field="alphabet")
@@ -99,15 +95,15 @@ def _first_repeat(chars: str) -> str | None:
 def alphabet_from_symbols(chars: str) -> Alphabet:
     """Return an alphabet made of the literal symbols ``chars`` (one symbol per code point).
 
-    :raises DomainError: (field ``alphabet_chars``) when a symbol repeats, or the set
-        has fewer than 2 or more than 65,536 symbols.
+    :raises DomainError: (field ``symbols``) when a symbol repeats, or the set has fewer
+        than MIN_ALPHABET_SIZE or more than MAX_ALPHABET_SIZE symbols.
 
     >>> alphabet_from_symbols("abc").size
     3
     """
-    field = "alphabet_chars"
+    field = "symbols"
     allowed = (
-        f"alphabet_chars must hold from {MIN_ALPHABET_SIZE} to {MAX_ALPHABET_SIZE:,} "
+        f"symbols must hold from {MIN_ALPHABET_SIZE} to {MAX_ALPHABET_SIZE:,} "
         "distinct symbols"
     )
     if len(chars) < MIN_ALPHABET_SIZE:
@@ -126,7 +122,7 @@ def alphabet_from_symbols(chars: str) -> Alphabet:
 def alphabet_of_size(size: int) -> Alphabet:
     """Return an anonymous alphabet of ``size`` symbols.
 
-    :raises DomainError: (field ``alphabet_size``) unless 2 <= size <= 65,536.
+    :raises DomainError: (field ``alphabet_size``) unless it is within the limits.
 
     >>> alphabet_of_size(40).symbols, alphabet_of_size(40).size
     ('', 40)

@@ -17,17 +17,16 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 from fractions import Fraction
-from typing import Final
 
 from urnbound.core.errors import DomainError
-from urnbound.core.limits import MAX_COUNT, MAX_SIZE_BITS, MIN_RISK
-
-#: Longest text accepted for a count or a risk target.
-MAX_TEXT_CHARS: Final = 200
-#: Longest text accepted for a size: 2**8192 written out has 2,467 digits.
-MAX_SIZE_TEXT_CHARS: Final = 2_600
-#: Largest identifier space, as an integer.
-MAX_SIZE: Final = 2**MAX_SIZE_BITS
+from urnbound.core.limits import (
+    MAX_BIG_TEXT_CHARS,
+    MAX_COUNT,
+    MAX_SIZE,
+    MAX_TEXT_CHARS,
+    MIN_RISK,
+    MIN_SPACE_SIZE,
+)
 
 _WHITESPACE = " \t\r\n\f\v"
 _DECIMAL = re.compile(
@@ -67,7 +66,7 @@ def _split_decimal(text: str) -> _Decimal | None:
     return _Decimal(match["sign"] == "-", stripped, exponent if stripped else 0)
 
 
-def _bound_text(value: int) -> str:
+def bound_text(value: int) -> str:
     """Write a range bound compactly: 10^60, 2^8192, or plain digits."""
     if value >= 10**7:
         text = str(value)
@@ -78,16 +77,32 @@ def _bound_text(value: int) -> str:
     return str(value)
 
 
-def _whole_rule(field: str, minimum: int, maximum: int, scientific: bool) -> str:
+def whole_rule(minimum: int, maximum: int, scientific: bool) -> str:
+    """The allowed form and range of a whole-number parameter, as a phrase.
+
+    >>> whole_rule(0, 2**8192, True)
+    'a whole number from 0 to 2^8192, written as digits or in scientific notation such as 1e9'
+    """
     form = (
         "written as digits or in scientific notation such as 1e9"
         if scientific
         else "written as digits"
     )
+    return f"a whole number from {bound_text(minimum)} to {bound_text(maximum)}, {form}"
+
+
+def risk_rule() -> str:
+    """The allowed form and range of a risk target, as a phrase."""
     return (
-        f"{field} must be a whole number from {_bound_text(minimum)} "
-        f"to {_bound_text(maximum)}, {form}"
+        f"a decimal number from {_risk_text(MIN_RISK)} up to but not including 1, "
+        "written as digits or in scientific notation such as 0.001 or 1e-9"
     )
+
+
+def _risk_text(value: Fraction) -> str:
+    """1e-300 for 1/10**300: the smallest risk in the notation callers write."""
+    exponent = len(str(value.denominator)) - 1
+    return f"1e-{exponent}" if value == Fraction(1, 10**exponent) else str(value)
 
 
 class _Rule:
@@ -106,7 +121,7 @@ class _Rule:
 def _parse_whole(
     text: str | int, field: str, minimum: int, maximum: int, max_chars: int, scientific: bool
 ) -> int:
-    rule = _Rule(field, _whole_rule(field, minimum, maximum, scientific))
+    rule = _Rule(field, f"{field} must be {whole_rule(minimum, maximum, scientific)}")
     if isinstance(text, bool) or not isinstance(text, (int, str)):
         raise rule.error(f"a value of type {type(text).__name__}")
     if isinstance(text, int):
@@ -119,9 +134,9 @@ def _parse_whole(
             raise rule.error("an empty value")
         value = _whole_from_text(stripped, minimum, maximum, scientific, rule)
     if value < minimum:
-        raise rule.error(f"a value below {_bound_text(minimum)}")
+        raise rule.error(f"a value below {bound_text(minimum)}")
     if value > maximum:
-        raise rule.error(f"a value above {_bound_text(maximum)}")
+        raise rule.error(f"a value above {bound_text(maximum)}")
     return value
 
 
@@ -138,8 +153,8 @@ def _whole_from_text(text: str, minimum: int, maximum: int, scientific: bool, ru
     if number.order > len(str(max(abs(minimum), abs(maximum)))):
         # Decided from digit count and exponent alone: no big integer is built.
         if number.negative:
-            raise rule.error(f"a value below {_bound_text(minimum)}")
-        raise rule.error(f"a value above {_bound_text(maximum)}")
+            raise rule.error(f"a value below {bound_text(minimum)}")
+        raise rule.error(f"a value above {bound_text(maximum)}")
     scale: int = 10**number.exponent  # exponent >= 0 here, so this is an int
     magnitude = int(number.digits or "0") * scale
     return -magnitude if number.negative else magnitude
@@ -152,15 +167,15 @@ def parse_count(
 
     :param text: digits, or decimal/scientific notation denoting a whole number.
     :param field: the request field, named in errors.
-    :raises DomainError: for malformed text, a fraction, more than 200 characters,
-        or a value outside [minimum, maximum]; the detail states form and range.
+    :raises DomainError: for malformed text, a fraction, more than MAX_BIG_TEXT_CHARS
+        characters, or a value outside [minimum, maximum]; the detail states form and range.
 
     >>> parse_count("2.5e12")
     2500000000000
     >>> parse_count(" 1E6 ")
     1000000
     """
-    return _parse_whole(text, field, minimum, maximum, MAX_TEXT_CHARS, scientific=True)
+    return _parse_whole(text, field, minimum, maximum, MAX_BIG_TEXT_CHARS, scientific=True)
 
 
 def parse_size(text: str | int, *, field: str = "size") -> int:
@@ -172,7 +187,7 @@ def parse_size(text: str | int, *, field: str = "size") -> int:
     >>> parse_size("1e6")
     1000000
     """
-    return _parse_whole(text, field, 2, MAX_SIZE, MAX_SIZE_TEXT_CHARS, scientific=True)
+    return _parse_whole(text, field, MIN_SPACE_SIZE, MAX_SIZE, MAX_BIG_TEXT_CHARS, scientific=True)
 
 
 def parse_int_in_range(text: str | int, field: str, lo: int, hi: int) -> int:
@@ -187,11 +202,7 @@ def parse_int_in_range(text: str | int, field: str, lo: int, hi: int) -> int:
 
 
 def _risk_rule(field: str) -> _Rule:
-    return _Rule(
-        field,
-        f"{field} must be a decimal number from 1e-300 up to but not including 1, "
-        "written as digits or in scientific notation such as 0.001 or 1e-9",
-    )
+    return _Rule(field, f"{field} must be {risk_rule()}")
 
 
 def parse_risk(text: str, *, field: str = "max_risk") -> Fraction:
@@ -222,9 +233,10 @@ def parse_risk(text: str, *, field: str = "max_risk") -> Fraction:
     # 10**(order - 1) <= value < 10**order.
     if number.digits and number.order >= 1:
         raise rule.error("a value of 1 or more")
-    if not number.digits or number.order < -299:
-        raise rule.error("a value below 1e-300")
+    lowest = _risk_text(MIN_RISK)
+    if not number.digits or number.order < -(len(str(MIN_RISK.denominator)) - 2):
+        raise rule.error(f"a value below {lowest}")
     value = Fraction(int(number.digits)) * Fraction(10) ** number.exponent
     if value < MIN_RISK:
-        raise rule.error("a value below 1e-300")
+        raise rule.error(f"a value below {lowest}")
     return value

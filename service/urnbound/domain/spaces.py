@@ -5,28 +5,13 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from urnbound.core.errors import DomainError
-from urnbound.core.limits import MAX_SIZE_BITS
+from urnbound.core.limits import MAX_BITS, MAX_SIZE, MAX_SIZE_BITS, MIN_BITS, MIN_SPACE_SIZE
 from urnbound.core.precision import log2_of_int
 from urnbound.domain.alphabets import Alphabet
+from urnbound.domain.numbers import bound_text
 
 #: Sizes with more digits than this are described in scientific notation.
 _PLAIN_DIGITS = 30
-
-
-def log2_of(value: int) -> float:
-    """Return log2 of a positive integer of any size, accurate to a few units in the last place.
-
-    Only the top 64 bits take part in the floating-point step, so huge integers never
-    overflow a float; powers of two come out exact.
-
-    >>> log2_of(2**8192)
-    8192.0
-    >>> round(log2_of(10**600), 6)
-    1993.156857
-    """
-    if value < 1:
-        raise ValueError("log2 needs a positive integer")
-    return log2_of_int(value)
 
 
 @dataclass(frozen=True, slots=True)
@@ -51,7 +36,7 @@ class IdSpace:
     @property
     def bits(self) -> float:
         """log2 of the size: the entropy of one uniformly drawn identifier, in bits."""
-        return log2_of(self.size)
+        return log2_of_int(self.size)
 
 
 def _values_text(size: int) -> str:
@@ -66,13 +51,14 @@ def _values_text(size: int) -> str:
 def space_from_bits(bits: int) -> IdSpace:
     """Return the space of ``bits`` uniformly random bits (2**bits values).
 
-    :raises DomainError: (field ``bits``) unless 1 <= bits <= 8192.
+    :raises DomainError: (field ``bits``) unless MIN_BITS <= bits <= MAX_BITS.
 
     >>> space_from_bits(64).description
     '2^64 values (64 random bits)'
     """
-    if isinstance(bits, bool) or not 1 <= bits <= MAX_SIZE_BITS:
-        raise DomainError(f"bits must be a whole number from 1 to {MAX_SIZE_BITS}", field="bits")
+    if isinstance(bits, bool) or not MIN_BITS <= bits <= MAX_BITS:
+        raise DomainError(f"bits must be a whole number from {MIN_BITS} to {MAX_BITS}",
+                          field="bits")
     unit = "bit" if bits == 1 else "bits"
     return IdSpace(2**bits, f"2^{bits} values ({bits} random {unit})", 2, bits)
 
@@ -86,7 +72,7 @@ def longest_length(alphabet_size: int, max_size_bits: int = MAX_SIZE_BITS) -> in
     if alphabet_size < 2:
         raise ValueError("an alphabet has at least two symbols")
     limit = 2**max_size_bits
-    guess = int(max_size_bits / log2_of(alphabet_size))
+    guess = int(max_size_bits / log2_of_int(alphabet_size))
     # The float guess is off by at most one either way; settle it exactly.
     while alphabet_size**guess > limit:
         guess -= 1
@@ -114,7 +100,7 @@ def space_from_alphabet(alphabet: Alphabet, length: int) -> IdSpace:
         raise DomainError(
             f"length must be a whole number from 1 to {longest} for the "
             f"{_alphabet_label(alphabet)}, so that the space holds at most "
-            f"2^{MAX_SIZE_BITS} values",
+            f"{bound_text(MAX_SIZE)} values",
             field="length",
         )
     return IdSpace(
@@ -128,11 +114,13 @@ def space_from_alphabet(alphabet: Alphabet, length: int) -> IdSpace:
 def space_from_size(size: int) -> IdSpace:
     """Return a space of ``size`` values given directly.
 
-    :raises DomainError: (field ``size``) unless 2 <= size <= 2**8192.
+    :raises DomainError: (field ``size``) unless MIN_SPACE_SIZE <= size <= MAX_SIZE.
 
     >>> space_from_size(1_000_000).description
     '1000000 values'
     """
-    if isinstance(size, bool) or not 2 <= size <= 2**MAX_SIZE_BITS:
-        raise DomainError(f"size must be a whole number from 2 to 2^{MAX_SIZE_BITS}", field="size")
+    if isinstance(size, bool) or not MIN_SPACE_SIZE <= size <= MAX_SIZE:
+        raise DomainError(
+            f"size must be a whole number from {MIN_SPACE_SIZE} to {bound_text(MAX_SIZE)}",
+            field="size")
     return IdSpace(size, _values_text(size))

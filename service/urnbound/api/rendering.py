@@ -1,0 +1,51 @@
+"""Answer bodies of registered questions: load, compute and dump, identically for HTTP and CLI.
+
+No Flask here, so that ``urnbound <question> --json`` prints, byte for byte, the body the
+API sends for the same question: both call :meth:`Renderer.render` on inputs that
+:meth:`Question.load` produced from the same texts.
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Mapping
+from dataclasses import dataclass
+from types import MappingProxyType
+
+from marshmallow import Schema
+
+from urnbound.api.schemas import answer_schema
+from urnbound.domain.inputs import Inputs
+from urnbound.domain.question import Context, Question
+from urnbound.domain.registry import Registry
+
+
+@dataclass(frozen=True, slots=True)
+class CachedAnswer:
+    """A serialized answer body and the method that produced it (if any)."""
+
+    body: bytes
+    method: str | None = None
+
+
+def json_body(document: Mapping[str, object]) -> bytes:
+    """Serialize an answer as strict JSON (no NaN or Infinity), compactly."""
+    return json.dumps(document, allow_nan=False, separators=(",", ":")).encode()
+
+
+@dataclass(frozen=True, slots=True)
+class Renderer:
+    """One answer-schema instance per registered question (building one is costly)."""
+
+    schemas: Mapping[str, Schema]
+
+    def render(self, question: Question, inputs: Inputs, context: Context) -> CachedAnswer:
+        """The answer to ``question`` for ``inputs``, serialized."""
+        answer = question.answer_to(inputs, context)
+        document = self.schemas[question.name].dump(answer.values)
+        return CachedAnswer(json_body(document), answer.method)
+
+
+def renderer_for(registry: Registry) -> Renderer:
+    """A renderer for every question of ``registry``."""
+    return Renderer(MappingProxyType({q.name: answer_schema(q)() for q in registry}))

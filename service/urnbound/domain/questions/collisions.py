@@ -1,0 +1,101 @@
+"""GET /v1/collisions: how likely is a repeat among ``count`` identifiers from one space?
+
+The birthday bound: the probability that ``count`` identifiers drawn independently and
+uniformly from the space are not all distinct, with its complement and the expected
+number of equal pairs and of duplicates. Small questions are exact; large ones come
+from a uniform Stirling expansion with a stated error bound.
+
+Example: ``GET /v1/collisions?alphabet=base64url&length=8&count=2e6``
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from urnbound.core.pairwise import collision_risk, related_figures
+from urnbound.core.results import CollisionRisk, RelatedFigures
+from urnbound.domain.inputs import Inputs
+from urnbound.domain.parameters import COUNT, SPACE
+from urnbound.domain.question import (
+    Answer,
+    AnswerField,
+    Context,
+    Question,
+    bound_field,
+    count_field,
+    method_field,
+    space_field,
+)
+from urnbound.domain.spaces import IdSpace
+
+
+@dataclass(frozen=True, slots=True)
+class CollisionReport:
+    """The risk that ``count`` identifiers drawn from ``space`` are not all distinct."""
+
+    space: IdSpace
+    count: int
+    risk: CollisionRisk
+    figures: RelatedFigures
+
+
+def collision_report(space: IdSpace, count: int, *, exact_digit_limit: int) -> CollisionReport:
+    """The collision risk and its related figures for ``count`` identifiers from ``space``.
+
+    >>> from urnbound.domain.spaces import space_from_size
+    >>> collision_report(space_from_size(365), 23, exact_digit_limit=50_000).risk.method
+    'exact'
+    """
+    risk = collision_risk(space.size, count, exact_digit_limit=exact_digit_limit)
+    return CollisionReport(space, count, risk, related_figures(space.size, count, risk))
+
+
+def _answer(inputs: Inputs, context: Context) -> Answer:
+    report = collision_report(inputs["space"], inputs["count"],
+                              exact_digit_limit=context.exact_digit_limit)
+    risk, figures = report.risk, report.figures
+    return Answer(
+        {
+            "collision": risk.collision,
+            "no_collision": risk.no_collision,
+            "expected_colliding_pairs": figures.expected_colliding_pairs,
+            "expected_duplicates": figures.expected_duplicates,
+            "reciprocal_risk": figures.reciprocal_risk,
+            "space": report.space,
+            "count": report.count,
+            "method": risk.method,
+            "relative_error_bound": risk.relative_error_bound,
+            "exact": risk.exact,
+        },
+        risk.method,
+    )
+
+
+QUESTION = Question(
+    name="collisions",
+    path="/v1/collisions",
+    summary="Collision risk of count identifiers drawn from one space.",
+    description=__doc__ or "",
+    inputs=(SPACE, COUNT),
+    answer=(
+        AnswerField("collision", "probability", "P(at least two identifiers are equal)."),
+        AnswerField("no_collision", "probability",
+                    "P(all identifiers are distinct), the complement, with its own accuracy."),
+        AnswerField("expected_colliding_pairs", "magnitude",
+                    "Expected number of equal pairs, C(count, 2) / size."),
+        AnswerField("expected_duplicates", "magnitude",
+                    "Expected count minus the expected number of distinct values."),
+        AnswerField("reciprocal_risk", "magnitude",
+                    "1 / collision: the risk written as one chance in this many; null for "
+                    "a risk of 0.", nullable=True),
+        space_field(),
+        count_field(),
+        method_field(),
+        bound_field("collision and no_collision"),
+        AnswerField("exact", "fraction",
+                    "The risk as a reduced fraction, when its terms have at most 1,000 "
+                    "digits each (exact method only).", nullable=True),
+    ),
+    compute=_answer,
+    example={"alphabet": "base64url", "length": "8", "count": "2e6"},
+)
