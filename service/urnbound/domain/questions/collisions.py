@@ -12,6 +12,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT
 from urnbound.core.pairwise import collision_risk, related_figures
 from urnbound.core.results import CollisionRisk, RelatedFigures
 from urnbound.domain.inputs import Inputs
@@ -39,11 +40,13 @@ class CollisionReport:
     figures: RelatedFigures
 
 
-def collision_report(space: IdSpace, count: int, *, exact_digit_limit: int) -> CollisionReport:
+def collision_report(
+    space: IdSpace, count: int, *, exact_digit_limit: int = DEFAULT_EXACT_DIGIT_LIMIT
+) -> CollisionReport:
     """The collision risk and its related figures for ``count`` identifiers from ``space``.
 
     >>> from urnbound.domain.spaces import space_from_size
-    >>> collision_report(space_from_size(365), 23, exact_digit_limit=50_000).risk.method
+    >>> collision_report(space_from_size(365), 23).risk.method
     'exact'
     """
     risk = collision_risk(space.size, count, exact_digit_limit=exact_digit_limit)
