@@ -14,8 +14,8 @@ the family is and how its first guess is formed:
   guess: n = 1/2 + sqrt(1/4 + 2Nt), the root of n(n-1)/(2N) = t, then Newton steps on
   g(n) = -ln P(no collision) = t (slope -log1p(-n/N), values from the expansion at
   log2(n) + 32 bits, so that a step places n to within one), at most
-  ``MAX_NEWTON_STEPS``; spaces below ``asymptotic.MIN_SIZE`` skip Newton (their exact
-  comparisons are cheap). The guess is never trusted: the search certifies the answer.
+  ``MAX_NEWTON_STEPS``; spaces below ``asymptotic.MIN_SIZE`` take the same steps in
+  float64 with lgamma. The guess is never trusted: the search certifies the answer.
 
 The target t is formed from max_risk without rounding near 1 (``search.hazard``), so
 max_risk = 1 - 10**-198 is as good an input as 10**-300.
@@ -197,8 +197,10 @@ class CountFamily:
 
     def first_guess(self, max_risk: Fraction) -> int:
         guess = _closed_form_count(self.size, max_risk)
-        if self.size < MIN_SIZE or guess < 2:
+        if guess < 2 or self.size < 3:
             return guess
+        if self.size < MIN_SIZE:
+            return _float_newton_count(self.size, max_risk, guess)
         return _newton_count(self.size, max_risk, min(guess, self.size - 1))
 
     def known(self, index: int) -> Fraction | None:
@@ -304,8 +306,12 @@ def _length_guess(alphabet_size: int, count: int, max_risk: Fraction) -> int:
 
 
 def _closed_form_count(size: int, max_risk: Fraction) -> int:
-    """n = 1/2 + sqrt(1/4 + 2 N t), the root of n(n-1)/(2N) = t, clamped to [1, N]."""
-    prec = size.bit_length() + 64
+    """n = 1/2 + sqrt(1/4 + 2 N t), the root of n(n-1)/(2N) = t, clamped to [1, N].
+
+    Worked at log2(N)/2 + 72 bits: n is below 2**(log2(N)/2 + 6) (t < 500 for any
+    200-character target), so the root is good to far better than one.
+    """
+    prec = size.bit_length() // 2 + 72
     inside = mp.add(mp.mul(mp.real(2 * size, prec), hazard(max_risk, prec), prec),
                     mp.real(Fraction(1, 4), prec), prec)
     root = libmp.mpf_sqrt(inside, prec)
@@ -321,20 +327,41 @@ def _newton_count(size: int, max_risk: Fraction, guess: int) -> int:
     Stops once a step is below one, or when the count cannot move (clamped to [2, N-1]).
     """
     count = guess
+    prec = guess.bit_length() + 32
+    target = hazard(max_risk, prec)
     for _ in range(MAX_NEWTON_STEPS):
         if not 2 <= count < size:
             return count
-        prec = count.bit_length() + 32
         try:
             value = mp.neg(log_no_collision(size, count, prec).value)
         except NoConvergence:
             return count  # the expansion cannot say; the search starts from here
-        target = hazard(max_risk, prec)
         slope = _count_slope(size, count, prec)
         step = mp.div(mp.sub(target, value, prec), slope, prec)
         if mp.magnitude_bits(step) <= 0:  # |step| < 1
             return count
         moved = min(max(count + int(libmp.to_int(step, mp.NEAREST)), 2), size - 1)
+        if moved == count:
+            return count
+        count = moved
+    raise NoConvergence("Newton steps of the count guess did not settle")
+
+
+def _float_newton_count(size: int, max_risk: Fraction, guess: int) -> int:
+    """The same Newton steps in float64 (lgamma), for the small spaces below MIN_SIZE.
+
+    g(n) = n ln N - lgamma(N + 1) + lgamma(N - n + 1) is below 10**4 there, so its float
+    error (some 1e-12) places n to well within one.
+    """
+    count = min(max(guess, 2), size - 1)
+    target = mp.to_float(hazard(max_risk, 64))
+    log_size, log_factorial = math.log(size), math.lgamma(size + 1)
+    for _ in range(MAX_NEWTON_STEPS):
+        value = count * log_size - log_factorial + math.lgamma(size - count + 1)
+        step = (target - value) / -math.log1p(-count / size)
+        if abs(step) < 1:
+            return count
+        moved = min(max(count + round(step), 2), size - 1)
         if moved == count:
             return count
         count = moved

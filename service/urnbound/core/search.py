@@ -321,8 +321,12 @@ def _target(value: Fraction, prec: int) -> tuple[Real, Real]:
 def hazard(max_risk: Fraction, prec: int) -> Real:
     """t = -ln(1 - max_risk) to ``prec`` bits, for 0 < max_risk < 1, without rounding near 1.
 
-    Below 1/2 it is -log1p(-r) (full relative accuracy for tiny r); above, -ln(c) of the
-    exact complement c = 1 - r, which may be as small as the caller likes.
+    The complement c = 1 - r is formed exactly and its logarithm taken, with
+    log2(1/r) + 16 extra bits when r <= 1/2 (ln c is then near -r, and the rounding of
+    c costs an absolute 2**-bits, a relative 2**-bits / r). When r is so small that at
+    most ``MAX_HAZARD_TERMS`` terms of r + r**2/2 + r**3/3 + ... reach the precision,
+    that sum is formed exactly instead (its tail is below 2 r**(K+1), a relative
+    2 r**K). Above 1/2, c may be as small as the caller likes: ln c is well conditioned.
 
     >>> round(mp.to_float(hazard(Fraction(1, 2), 64)), 15)
     0.693147180559945
@@ -331,9 +335,20 @@ def hazard(max_risk: Fraction, prec: int) -> Real:
     >>> round(mp.to_float(hazard(1 - Fraction(1, 10**198), 64)), 9)
     455.911848413
     """
-    if 2 * max_risk <= 1:
-        return mp.neg(mp.log1p_neg(mp.real(max_risk, prec + 8), prec))
-    return mp.neg(mp.log(mp.real(1 - max_risk, prec + 8), prec))
+    complement = 1 - max_risk
+    if 2 * max_risk > 1:
+        return mp.neg(mp.log(mp.real(complement, prec + 8), prec))
+    # r < 2**-small, and log2(1/r) < small + 2 (from the bit lengths of p and q).
+    small = max_risk.denominator.bit_length() - max_risk.numerator.bit_length() - 1
+    terms = -(-(prec + 9) // small) if small > 0 else MAX_HAZARD_TERMS + 1
+    if terms <= MAX_HAZARD_TERMS:
+        total = sum((max_risk**k / k for k in range(1, terms + 1)), Fraction(0))
+        return mp.real(total, prec)
+    return mp.neg(mp.log(mp.real(complement, prec + small + 18), prec))
+
+
+#: Most terms of the series of -ln(1 - r) summed exactly (else a logarithm is taken).
+MAX_HAZARD_TERMS = 4
 
 
 def log2_of_real(value: Real) -> float:
