@@ -131,3 +131,25 @@ def test_several_bad_fields_are_all_reported(client: FlaskClient) -> None:
     response = client.get(f"{CAPACITY}?bits=0&max_risk=2")
     assert response.status_code == 422
     assert set(response.get_json()["errors"]) == {"bits", "max_risk"}
+
+
+def test_unknown_alphabet_without_length_names_the_alphabet(client: FlaskClient) -> None:
+    # Found by trying it: this was reported as a missing length.
+    response = client.get(f"{COLLISIONS}?alphabet=base58&count=5")
+    assert response.status_code == 422
+    assert list(response.get_json()["errors"]) == ["alphabet"]
+
+
+def test_alphabet_names_match_without_regard_to_case(client: FlaskClient) -> None:
+    upper = client.get(f"{COLLISIONS}?alphabet=BASE64URL&length=8&count=2e6").get_json()
+    lower = client.get(f"{COLLISIONS}?alphabet=base64url&length=8&count=2e6").get_json()
+    assert upper == lower
+    assert upper["space"]["description"].startswith("base64url alphabet")
+
+
+def test_old_parameter_names_are_unknown(client: FlaskClient) -> None:
+    response = client.get(f"{COLLISIONS}?alphabet_chars=abc&length=3&count=1")
+    assert response.status_code == 422
+    assert "unknown parameter" in response.get_json()["errors"]["alphabet_chars"][0]
+    body = client.get(f"{COLLISIONS}?symbols=abc&length=3&count=2").get_json()
+    assert "one_in" not in body and "reciprocal_risk" in body
