@@ -10,11 +10,11 @@ from hypothesis import example, given
 from hypothesis import strategies as st
 
 from urnbound.core.errors import DomainError
+from urnbound.core.inverse import longest_length
 from urnbound.core.precision import log2_of_int as log2_of
 from urnbound.domain.alphabets import alphabet_from_symbols, alphabet_of_size, named_alphabet
 from urnbound.domain.spaces import (
     IdSpace,
-    longest_length,
     space_from_alphabet,
     space_from_bits,
     space_from_size,

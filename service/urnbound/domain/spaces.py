@@ -5,7 +5,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from urnbound.core.errors import DomainError
-from urnbound.core.limits import MAX_BITS, MAX_SIZE, MAX_SIZE_BITS, MIN_BITS, MIN_SPACE_SIZE
+from urnbound.core.inverse import longest_length
+from urnbound.core.limits import MAX_BITS, MAX_SIZE, MIN_BITS, MIN_SPACE_SIZE
 from urnbound.core.precision import log2_of_int
 from urnbound.domain.alphabets import Alphabet
 from urnbound.domain.numbers import bound_text
@@ -61,24 +62,6 @@ def space_from_bits(bits: int) -> IdSpace:
                           field="bits")
     unit = "bit" if bits == 1 else "bits"
     return IdSpace(2**bits, f"2^{bits} values ({bits} random {unit})", 2, bits)
-
-
-def longest_length(alphabet_size: int, max_size_bits: int = MAX_SIZE_BITS) -> int:
-    """Return the largest L with alphabet_size**L <= 2**max_size_bits.
-
-    >>> longest_length(64), longest_length(2), longest_length(10)
-    (1365, 8192, 2466)
-    """
-    if alphabet_size < 2:
-        raise ValueError("an alphabet has at least two symbols")
-    limit = 2**max_size_bits
-    guess = int(max_size_bits / log2_of_int(alphabet_size))
-    # The float guess is off by at most one either way; settle it exactly.
-    while alphabet_size**guess > limit:
-        guess -= 1
-    while alphabet_size ** (guess + 1) <= limit:
-        guess += 1
-    return guess
 
 
 def _alphabet_label(alphabet: Alphabet) -> str:
