@@ -50,6 +50,8 @@ MAX_NEWTON_STEPS = 40
 #: Exact comparisons whose estimated cost (digits of N**n) is at most this are made first:
 #: below it they are measured cheaper than one interval evaluation (tests/bench).
 EXACT_FIRST_DIGITS = 1_500
+#: Precision of the Newton slope and of the step-size test (the step needs no more).
+SLOPE_BITS = 64
 #: Adjustments of the float guess of the longest length (it is off by at most one).
 MAX_LENGTH_ADJUSTMENTS = 4
 
@@ -196,12 +198,13 @@ class CountFamily:
         return True
 
     def first_guess(self, max_risk: Fraction) -> int:
-        guess = _closed_form_count(self.size, max_risk)
+        target = _hazard_for_count(self.size, max_risk)
+        guess = _closed_form_count(self.size, target)
         if guess < 2 or self.size < 3:
             return guess
         if self.size < MIN_SIZE:
-            return _float_newton_count(self.size, max_risk, guess)
-        return _newton_count(self.size, max_risk, min(guess, self.size - 1))
+            return _float_newton_count(self.size, mp.to_float(target), guess)
+        return _newton_count(self.size, target, min(guess, self.size - 1))
 
     def known(self, index: int) -> Fraction | None:
         return _known_risk(self.size, index)
@@ -305,30 +308,42 @@ def _length_guess(alphabet_size: int, count: int, max_risk: Fraction) -> int:
     return max(1, math.ceil(needed_bits / mp.log2_of_int(alphabet_size)))
 
 
-def _closed_form_count(size: int, max_risk: Fraction) -> int:
+def _hazard_for_count(size: int, max_risk: Fraction) -> mp.Real:
+    """t = -ln(1 - max_risk) at log2(N)/2 + 72 bits, enough for the guess and Newton.
+
+    Any count below N + 1 that the search can reach with t < 500 (every 200-character
+    target) has at most log2(N)/2 + 6 bits, so this is more than the log2(n) + 32 bits
+    the Newton steps work at.
+    """
+    return hazard(max_risk, size.bit_length() // 2 + 72)
+
+
+def _closed_form_count(size: int, target: mp.Real) -> int:
     """n = 1/2 + sqrt(1/4 + 2 N t), the root of n(n-1)/(2N) = t, clamped to [1, N].
 
     Worked at log2(N)/2 + 72 bits: n is below 2**(log2(N)/2 + 6) (t < 500 for any
     200-character target), so the root is good to far better than one.
     """
     prec = size.bit_length() // 2 + 72
-    inside = mp.add(mp.mul(mp.real(2 * size, prec), hazard(max_risk, prec), prec),
+    inside = mp.add(mp.mul(mp.real(2 * size, prec), target, prec),
                     mp.real(Fraction(1, 4), prec), prec)
     root = libmp.mpf_sqrt(inside, prec)
     guess = int(libmp.to_int(mp.add(root, mp.real(Fraction(1, 2), prec), prec)))
     return min(max(guess, 1), size)
 
 
-def _newton_count(size: int, max_risk: Fraction, guess: int) -> int:
+def _newton_count(size: int, target: mp.Real, guess: int) -> int:
     """Newton steps on g(n) = -ln P(no collision) = t from ``guess``, for size >= MIN_SIZE.
 
-    g rises and is convex in n (its differences -log1p(-n/N) rise), so the steps close
-    in on the root; each evaluates g at log2(n) + 32 bits, which places n to within one.
-    Stops once a step is below one, or when the count cannot move (clamped to [2, N-1]).
+    g rises and is convex in n (its differences s(n) = -log1p(-n/N) rise, its curvature
+    is about 1/(N - n)), so the steps close in on the root; each evaluates g at
+    log2(n) + 32 bits, which places n to within one. A step of length h leaves an error
+    of about h**2 / (2 (N - n) s(n)); once that is below 1/4 the step is taken without
+    another evaluation. Stops as well once a step is below one, or when the count cannot
+    move (clamped to [2, N-1]).
     """
     count = guess
     prec = guess.bit_length() + 32
-    target = hazard(max_risk, prec)
     for _ in range(MAX_NEWTON_STEPS):
         if not 2 <= count < size:
             return count
@@ -336,25 +351,33 @@ def _newton_count(size: int, max_risk: Fraction, guess: int) -> int:
             value = mp.neg(log_no_collision(size, count, prec).value)
         except NoConvergence:
             return count  # the expansion cannot say; the search starts from here
-        slope = _count_slope(size, count, prec)
+        slope = _count_slope(size, count, SLOPE_BITS)
         step = mp.div(mp.sub(target, value, prec), slope, prec)
         if mp.magnitude_bits(step) <= 0:  # |step| < 1
             return count
         moved = min(max(count + int(libmp.to_int(step, mp.NEAREST)), 2), size - 1)
         if moved == count:
             return count
+        if _step_is_final(step, slope, size - count):
+            return moved
         count = moved
     raise NoConvergence("Newton steps of the count guess did not settle")
 
 
-def _float_newton_count(size: int, max_risk: Fraction, guess: int) -> int:
+def _step_is_final(step: mp.Real, slope: mp.Real, rest: int) -> bool:
+    """h**2 < (N - n) s(n) / 2: the error left by the step h is below 1/4 (see above)."""
+    square = mp.mul(step, step, SLOPE_BITS)
+    room = mp.scale2(mp.mul(mp.real(rest, SLOPE_BITS), slope, SLOPE_BITS), -1)
+    return mp.less(square, room)
+
+
+def _float_newton_count(size: int, target: float, guess: int) -> int:
     """The same Newton steps in float64 (lgamma), for the small spaces below MIN_SIZE.
 
     g(n) = n ln N - lgamma(N + 1) + lgamma(N - n + 1) is below 10**4 there, so its float
     error (some 1e-12) places n to well within one.
     """
     count = min(max(guess, 2), size - 1)
-    target = mp.to_float(hazard(max_risk, 64))
     log_size, log_factorial = math.log(size), math.lgamma(size + 1)
     for _ in range(MAX_NEWTON_STEPS):
         value = count * log_size - log_factorial + math.lgamma(size - count + 1)
