@@ -12,6 +12,7 @@ from marshmallow import ValidationError
 from werkzeug.datastructures import Headers
 from werkzeug.exceptions import HTTPException
 
+from urnbound.api.problem_pages import init_problem_pages
 from urnbound.domain.errors import InvalidQuery, NoConvergence, ServiceError
 
 PROBLEM_MEDIA_TYPE = "application/problem+json"
@@ -24,16 +25,59 @@ class ProblemType:
     uri: str
     title: str
     status: int
+    #: What the problem means and what a client can do about it, shown on the type's page.
+    explanation: str = ""
 
 
 #: Query parameters missing, malformed, unknown, out of range or combined wrongly.
-INVALID_QUERY = ProblemType("/problems/invalid-query", "Invalid query parameters", 422)
+INVALID_QUERY = ProblemType(
+    "/problems/invalid-query",
+    "Invalid query parameters",
+    422,
+    "One or more query parameters are missing, malformed, not known to the endpoint, outside "
+    "their allowed range, or given together with a parameter they exclude. The errors member "
+    "names every parameter at fault with its messages, and detail sums them up. Correct those "
+    "parameters and ask again: the same request always gets the same answer.",
+)
 #: Well-formed inputs for which the service has no answer within its limits.
-OUT_OF_RANGE = ProblemType("/problems/out-of-range", "Question outside the answered range", 422)
+OUT_OF_RANGE = ProblemType(
+    "/problems/out-of-range",
+    "Question outside the answered range",
+    422,
+    "The parameters are well formed, but the question lies outside what the service answers "
+    "within its limits, for example a space or a count larger than it accepts, or a target "
+    "risk too small to reach. detail states the limit and errors names the parameter when one "
+    "is at fault. Ask a smaller question; the limits are listed in the API reference.",
+)
 #: A bounded numerical iteration stopped before reaching its accuracy.
-NO_CONVERGENCE = ProblemType("/problems/no-convergence", "Computation did not converge", 500)
+NO_CONVERGENCE = ProblemType(
+    "/problems/no-convergence",
+    "Computation did not converge",
+    500,
+    "A numerical iteration reached its bound before the answer had the accuracy the service "
+    "guarantees, so no figure was sent rather than one without its error bound. This is a "
+    "fault of the service, not of the request, and it has been logged. Asking again gives the "
+    "same outcome; please report the query.",
+)
 #: The core self-check failed; the instance should not take traffic.
-NOT_READY = ProblemType("/problems/not-ready", "Service not ready", 503)
+NOT_READY = ProblemType(
+    "/problems/not-ready",
+    "Service not ready",
+    503,
+    "This instance failed the self-check of its numerical core, which compares a few answers "
+    "with known values, so it must not take traffic. detail names the checks that failed. "
+    "Load balancers and orchestrators that probe /readyz send requests to other instances; "
+    "the instance needs a restart or a fixed release.",
+)
+
+
+def problem_types() -> tuple[ProblemType, ...]:
+    """Every problem kind defined in this module, in order of ``uri``.
+
+    The problem pages are listed from here, so a new constant gets its page without more code.
+    """
+    kinds = {value.uri: value for value in globals().values() if isinstance(value, ProblemType)}
+    return tuple(kinds[uri] for uri in sorted(kinds))
 
 
 @dataclass(frozen=True, slots=True)
@@ -128,11 +172,12 @@ def handle_unexpected(error: Exception) -> Response:
 
 
 def init_problems(app: Flask) -> None:
-    """Register the handlers so that every 4xx and 5xx is problem+json."""
+    """Register the handlers so that every 4xx and 5xx is problem+json, and the type pages."""
     app.register_error_handler(HTTPException, handle_http_exception)
     app.register_error_handler(ValidationError, handle_validation_error)
     app.register_error_handler(ServiceError, handle_service_error)
     app.register_error_handler(Exception, handle_unexpected)
+    init_problem_pages(app, problem_types())
 
 
 def _texts(value: object) -> list[str]:
