@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import ast
 from collections.abc import Callable
+from pathlib import Path
 
 import pytest
 from flask.testing import FlaskClient
@@ -62,3 +64,28 @@ def test_readyz_fails_when_the_core_raises(
     response = client.get("/readyz")
     assert response.status_code == 503
     assert "broken" in response.get_json()["detail"]
+
+
+@pytest.mark.parametrize("path", ["/healthz", "/readyz"])
+@pytest.mark.parametrize("query", ["x=1", "x=1&y=&z", "count=-1&bits=nonsense", "%ff=%00"])
+def test_probes_ignore_a_query_string(
+    client: FlaskClient, conforms: Conforms, path: str, query: str
+) -> None:
+    # Probers may add a query string (e.g. to defeat caches); a probe must not fail for it.
+    response = client.get(f"{path}?{query}")
+    assert response.status_code == 200
+    conforms(response, path)
+    assert response.get_json()["status"] in ("ok", "ready")
+    assert response.cache_control.no_store
+
+
+def test_health_does_not_parse_queries() -> None:
+    source = Path(health.__file__).read_text(encoding="utf-8")
+    imported = set()
+    for node in ast.walk(ast.parse(source)):
+        if isinstance(node, ast.ImportFrom) and node.module:
+            imported.add(node.module)
+        elif isinstance(node, ast.Import):
+            imported.update(alias.name for alias in node.names)
+    assert "urnbound.api.queries" not in imported
+    assert imported  # the walk found the module's imports at all
