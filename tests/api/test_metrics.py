@@ -8,6 +8,7 @@ import subprocess
 import sys
 from pathlib import Path
 
+import pytest
 from flask import Flask
 from flask.testing import FlaskClient
 from prometheus_client.parser import text_string_to_metric_families
@@ -64,6 +65,44 @@ def test_head_on_metrics(client: FlaskClient) -> None:
     response = client.head("/metrics")
     assert response.status_code == 200
     assert response.data == b""
+
+
+@pytest.mark.parametrize(
+    "path", ["/metrics/", "/metrics/anything", "/metrics/metrics", "/metricsx", "/METRICS"]
+)
+def test_only_the_exact_path_serves_metrics(client: FlaskClient, path: str) -> None:
+    response = client.get(path)
+    assert response.status_code == 404
+    assert response.mimetype == "application/problem+json"
+    body = response.get_json()
+    assert body["status"] == 404
+    assert body["instance"] == path
+    assert b"urnbound_http_requests" not in response.data
+
+
+def test_paths_near_metrics_are_counted_as_unmatched(client: FlaskClient) -> None:
+    client.get("/metrics/anything")
+    key = ("urnbound_http_requests_total",
+           (("endpoint", "unmatched"), ("method", "GET"), ("status", "404")))
+    assert samples(client)[key] == 1
+
+
+def test_post_on_metrics_is_a_405_problem(client: FlaskClient) -> None:
+    response = client.post("/metrics")
+    assert response.status_code == 405
+    assert response.mimetype == "application/problem+json"
+    assert response.headers["Allow"] == "GET, HEAD"
+    assert json.loads(response.data)["status"] == 405
+
+
+def test_invented_methods_share_one_label_value(client: FlaskClient) -> None:
+    for method in ("BREW", "WHEN", "PROPFIND"):
+        assert client.open("/healthz", method=method).status_code == 405
+    found = samples(client)
+    key = ("urnbound_http_requests_total",
+           (("endpoint", "unmatched"), ("method", "other"), ("status", "405")))
+    assert found[key] == 3
+    assert not any(dict(labels).get("method") == "BREW" for _, labels in found)
 
 
 MULTIPROCESS_SCRIPT = """

@@ -8,7 +8,7 @@ from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 from typing import Any
 
-from flask import Flask, Response, g, request
+from flask import Flask, Response, request
 from prometheus_client import (
     CONTENT_TYPE_LATEST,
     CollectorRegistry,
@@ -17,7 +17,6 @@ from prometheus_client import (
     generate_latest,
 )
 from prometheus_client.multiprocess import MultiProcessCollector
-from werkzeug.middleware.dispatcher import DispatcherMiddleware
 
 #: Environment variable that switches the Prometheus client to multiprocess mode.
 MULTIPROC_ENV = "PROMETHEUS_MULTIPROC_DIR"
@@ -96,6 +95,14 @@ def multiprocess_dir_from_env() -> str | None:
 
 WsgiApp = Callable[[dict[str, Any], WsgiStartResponse], Iterable[bytes]]
 
+#: The one path that serves the exposition; ``/metrics/`` and longer paths are 404 problems.
+METRICS_PATH = "/metrics"
+#: WSGI environ key holding ``time.perf_counter()`` at the moment the request reached the app.
+REQUEST_START_KEY = "urnbound.metrics.start"
+#: Methods counted under their own name; any other method is counted as ``other``, so that
+#: clients cannot add label values (a series each) by inventing methods.
+COUNTED_METHODS = frozenset({"GET", "HEAD", "POST", "PUT", "PATCH", "DELETE", "OPTIONS"})
+
 
 def metrics_wsgi_app(metrics: Metrics) -> WsgiApp:
     """A minimal WSGI app serving :meth:`Metrics.exposition` to GET and HEAD."""
@@ -104,11 +111,15 @@ def metrics_wsgi_app(metrics: Metrics) -> WsgiApp:
         if environ.get("REQUEST_METHOD", "GET") not in ("GET", "HEAD"):
             body = (
                 b'{"type":"about:blank","title":"Method Not Allowed","status":405,'
-                b'"detail":"/metrics answers GET and HEAD only"}'
+                b'"detail":"/metrics answers GET and HEAD only","instance":"/metrics"}'
             )
             start_response(
                 "405 METHOD NOT ALLOWED",
-                [("Content-Type", "application/problem+json"), ("Allow", "GET, HEAD")],
+                [
+                    ("Content-Type", "application/problem+json"),
+                    ("Content-Length", str(len(body))),
+                    ("Allow", "GET, HEAD"),
+                ],
             )
             return [body]
         output = metrics.exposition()
@@ -119,28 +130,68 @@ def metrics_wsgi_app(metrics: Metrics) -> WsgiApp:
     return application
 
 
+@dataclass(frozen=True, slots=True)
+class MetricsMount:
+    """WSGI middleware: exactly :data:`METRICS_PATH` to ``exposition``, the rest to ``app``.
+
+    Unlike a prefix mount, ``/metrics/`` and ``/metrics/anything`` reach the app, which
+    answers them with a 404 problem like any other unknown path (Prometheus scrapes the one
+    configured path). Requests for the app are stamped with their start time on the way in.
+    """
+
+    app: WsgiApp
+    exposition: WsgiApp
+
+    def __call__(
+        self, environ: dict[str, Any], start_response: WsgiStartResponse
+    ) -> Iterable[bytes]:
+        if environ.get("PATH_INFO") == METRICS_PATH:
+            return self.exposition(environ, start_response)
+        environ[REQUEST_START_KEY] = time.perf_counter()
+        return self.app(environ, start_response)
+
+
 def endpoint_label() -> str:
     """The matched route (bounded cardinality), or ``unmatched`` for a 404."""
     return request.url_rule.rule if request.url_rule is not None else "unmatched"
 
 
-def init_metrics(app: Flask, metrics: Metrics) -> None:
-    """Count and time every request, and mount ``/metrics`` with a dispatcher middleware."""
+def method_label(method: str) -> str:
+    """The method as counted: its name when it is a common one, else ``other``."""
+    return method if method in COUNTED_METHODS else "other"
 
-    @app.before_request
-    def start_timer() -> None:
-        g.urnbound_metrics_start = time.perf_counter()
+
+#: The labelled children one response updates: its latency histogram and its request counter.
+Children = tuple[Histogram, Counter]
+
+
+def init_metrics(app: Flask, metrics: Metrics) -> None:
+    """Count and time every request, and serve exactly ``/metrics`` from a WSGI middleware."""
+    # Labelled children are looked up once per (endpoint, method, status): every part is
+    # bounded (routes, COUNTED_METHODS, the statuses the app sends), and so is this map.
+    children: dict[tuple[str, str, int], Children] = {}
+
+    def children_of(endpoint: str, method: str, status: int) -> Children:
+        key = (endpoint, method, status)
+        found = children.get(key)
+        if found is None:
+            found = children[key] = (
+                metrics.latency.labels(endpoint=endpoint),
+                metrics.requests.labels(endpoint=endpoint, method=method, status=str(status)),
+            )
+        return found
 
     @app.after_request
     def observe(response: Response) -> Response:
-        started = g.get("urnbound_metrics_start", time.perf_counter())
-        endpoint = endpoint_label()
-        metrics.latency.labels(endpoint=endpoint).observe(time.perf_counter() - started)
-        metrics.requests.labels(
-            endpoint=endpoint, method=request.method, status=str(response.status_code)
-        ).inc()
+        now = time.perf_counter()
+        started = request.environ.get(REQUEST_START_KEY, now)
+        latency, count = children_of(
+            endpoint_label(), method_label(request.method), response.status_code
+        )
+        latency.observe(now - started)
+        count.inc()
         return response
 
-    app.wsgi_app = DispatcherMiddleware(  # type: ignore[method-assign]
-        app.wsgi_app, {"/metrics": metrics_wsgi_app(metrics)}
+    app.wsgi_app = MetricsMount(  # type: ignore[method-assign]
+        app.wsgi_app, metrics_wsgi_app(metrics)
     )
