@@ -13,12 +13,15 @@
 #   URNBOUND_LOG_LEVEL         gunicorn's own log level, default info
 #   PROMETHEUS_MULTIPROC_DIR   when set, metrics are shared across workers through this
 #                              directory; it must be empty at start (deploy/entrypoint.sh
-#                              wipes it)
+#                              wipes it). `urnbound serve` without it asks this file for a
+#                              private directory, made below and removed when gunicorn exits.
 
 from __future__ import annotations
 
 import os
 from typing import Any
+
+from urnbound.serving import claim_private_metrics_dir
 
 _LOG_LEVELS = ("debug", "info", "warning", "error", "critical")
 
@@ -90,6 +93,10 @@ worker_tmp_dir = _heartbeat_dir()
 control_socket_disable = True
 proc_name = "urnbound"
 
+# Made in the master while this file is read, so before a worker (or a preloaded app) imports
+# the Prometheus client; None unless `urnbound serve` asked for it (urnbound.serving).
+_private_metrics_dir = claim_private_metrics_dir()
+
 
 def child_exit(server: Any, worker: Any) -> None:
     """Tell the Prometheus client a worker has gone, so its live gauges are dropped."""
@@ -97,3 +104,9 @@ def child_exit(server: Any, worker: Any) -> None:
         from prometheus_client import multiprocess
 
         multiprocess.mark_process_dead(worker.pid)
+
+
+def on_exit(server: Any) -> None:
+    """Remove the private metrics directory made for `urnbound serve`, if there is one."""
+    if _private_metrics_dir is not None:
+        _private_metrics_dir.remove()

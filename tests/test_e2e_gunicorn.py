@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import contextlib
 import os
+import shutil
 import signal
 import socket
 import subprocess
@@ -121,6 +122,8 @@ def service(tmp_path_factory: pytest.TempPathFactory) -> Iterator[RunningService
         yield running
     finally:
         stop(process)
+        # The per-worker sample files are of no use once gunicorn has gone.
+        shutil.rmtree(metrics_dir, ignore_errors=True)
 
 
 @pytest.fixture
@@ -236,3 +239,115 @@ def test_metrics_count_requests_across_workers(
         if "collisions" in endpoint and status == "200"
     )
     assert answered >= asked
+
+
+def test_problem_type_pages_and_exact_metrics_path(
+    service: RunningService, http: requests.Session
+) -> None:
+    problem = http.get(
+        service.base_url + "/v1/collisions", params={"bits": "0", "count": "1"}, timeout=30
+    ).json()
+    page = http.get(service.base_url + problem["type"], timeout=REQUEST_TIMEOUT_S)
+    assert page.status_code == 200
+    assert page.headers["Content-Type"].startswith("text/html")
+    for path in ("/metrics/", "/metrics/anything", "/metricsx"):
+        response = http.get(service.base_url + path, timeout=REQUEST_TIMEOUT_S)
+        assert response.status_code == 404, path
+        assert response.headers["Content-Type"].startswith("application/problem+json")
+    probe = http.get(service.base_url + "/readyz?from=balancer", timeout=REQUEST_TIMEOUT_S)
+    assert probe.status_code == 200
+
+
+SERVE_SCRIPT = "import sys; from urnbound.serving import serve; serve(None, tuple(sys.argv[1:]))"
+
+
+def serve_environment(port: int, scratch: Path, **extra: str) -> dict[str, str]:
+    """The environment of ``urnbound serve`` without a metrics directory, temp files in scratch."""
+    environment = service_environment(port, scratch)
+    del environment["PROMETHEUS_MULTIPROC_DIR"]
+    environment["TMPDIR"] = str(scratch)  # where tempfile makes the private directory
+    environment.update(extra)
+    return environment
+
+
+def private_dirs(scratch: Path) -> list[Path]:
+    return sorted(scratch.glob("urnbound-metrics-*"))
+
+
+def start_serve(environment: dict[str, str], log_path: Path) -> subprocess.Popen[bytes]:
+    with log_path.open("wb") as log:
+        return subprocess.Popen(
+            [sys.executable, "-c", SERVE_SCRIPT],
+            cwd=REPO_ROOT,
+            env=environment,
+            stdin=subprocess.DEVNULL,
+            stdout=log,
+            stderr=subprocess.STDOUT,
+            start_new_session=True,
+        )
+
+
+@pytest.mark.parametrize("signal_number", [signal.SIGTERM, signal.SIGINT])
+def test_serve_removes_the_metrics_directory_it_made(
+    tmp_path: Path, signal_number: signal.Signals
+) -> None:
+    port = free_loopback_port()
+    log_path = tmp_path / "serve.log"
+    process = start_serve(serve_environment(port, tmp_path), log_path)
+    try:
+        running = RunningService(process, f"http://127.0.0.1:{port}", log_path)
+        wait_until_healthy(running)
+        for count in range(4):
+            reply = requests.get(
+                running.base_url + "/v1/collisions",
+                params={"bits": "40", "count": str(count)},
+                timeout=REQUEST_TIMEOUT_S,
+            )
+            assert reply.status_code == 200
+        (made,) = private_dirs(tmp_path)
+        assert any(path.suffix == ".db" for path in made.iterdir())
+        metrics = requests.get(running.base_url + "/metrics", timeout=REQUEST_TIMEOUT_S)
+        answered = sum(
+            value
+            for (endpoint, status), value in request_counts(metrics.text).items()
+            if "collisions" in endpoint and status == "200"
+        )
+        assert answered >= 4
+        process.send_signal(signal_number)  # the process is gunicorn's master itself
+        assert process.wait(timeout=SHUTDOWN_TIMEOUT_S) == 0
+    finally:
+        stop(process)
+    assert private_dirs(tmp_path) == [], log_path.read_text(encoding="utf-8", errors="replace")
+
+
+def test_serve_removes_the_directory_when_the_app_cannot_start(tmp_path: Path) -> None:
+    port = free_loopback_port()
+    log_path = tmp_path / "serve.log"
+    # A setting the app factory refuses: every worker fails to boot and gunicorn halts.
+    environment = serve_environment(port, tmp_path, URNBOUND_CACHE_ENTRIES="-5")
+    process = start_serve(environment, log_path)
+    try:
+        assert process.wait(timeout=STARTUP_TIMEOUT_S) != 0
+    finally:
+        stop(process)
+    log = log_path.read_text(encoding="utf-8", errors="replace")
+    assert "cache_entries" in log
+    assert private_dirs(tmp_path) == [], log
+
+
+def test_serve_keeps_a_directory_it_was_given(tmp_path: Path) -> None:
+    given = tmp_path / "given"
+    given.mkdir()
+    port = free_loopback_port()
+    log_path = tmp_path / "serve.log"
+    environment = serve_environment(port, tmp_path, PROMETHEUS_MULTIPROC_DIR=str(given))
+    process = start_serve(environment, log_path)
+    try:
+        wait_until_healthy(RunningService(process, f"http://127.0.0.1:{port}", log_path))
+        process.terminate()
+        assert process.wait(timeout=SHUTDOWN_TIMEOUT_S) == 0
+    finally:
+        stop(process)
+    assert given.is_dir()
+    assert any(path.suffix == ".db" for path in given.iterdir())
+    assert private_dirs(tmp_path) == []
