@@ -1,22 +1,30 @@
-"""Benchmark: requests per second of /v1/collisions beside an empty JSON endpoint, one gunicorn.
+"""Benchmark: requests per second of the service as ratios to a bare Flask floor, one run.
 
 Run from the repository root with the project's environment::
 
-    .venv/bin/python tests/bench/bench_http.py            # defaults: 5 rounds x 2 s per endpoint
+    .venv/bin/python tests/bench/bench_http.py            # defaults: 5 rounds x 2 s per phase
     .venv/bin/python tests/bench/bench_http.py --help
 
-One gunicorn, started with deploy/gunicorn.conf.py exactly as in production (sync workers,
-Prometheus multiprocess directory, JSON access log), serves the bench-only app of
-``empty_app.py``: the product app plus ``/bench/empty``. Client processes on 127.0.0.1 then
-drive, in interleaved rounds, three kinds of request:
+Several gunicorn instances run side by side, each started with deploy/gunicorn.conf.py as in
+production (sync workers, 2 of them by default, a Prometheus multiprocess directory of its
+own) on a free port of 127.0.0.1, with the bench apps of ``empty_app.py``:
 
-* empty JSON: ``GET /bench/empty`` (the framework's floor);
-* cached: the same ``/v1/collisions`` question again and again (answer-cache hits);
-* first answer: ``/v1/collisions`` with a count never asked before (cache misses).
+* ``bare``: a Flask app with one empty JSON endpoint and nothing else: the floor;
+* ``product``: the product app as deployed (access log, metrics, answer cache), plus the
+  same empty endpoint, which shows what the product's middleware costs by itself;
+* ``no-log``: the product with ``URNBOUND_ACCESS_LOG=0``;
+* ``no-metrics``: the product without the request metrics hook and the /metrics mount;
+* ``no-cache``: the product with ``URNBOUND_CACHE_ENTRIES=0`` (every answer recomputed).
 
-It prints a markdown table with the median requests per second of each and their ratio to the
-empty endpoint. Every phase is bounded by time and by a request count; the script stops
-gunicorn itself.
+One load client (a process on 127.0.0.1) then drives every (instance, request) phase in
+interleaved rounds, rotating their order each round: the empty endpoint, the same
+``/v1/collisions`` question again (cached), and a count never asked before (first answer).
+Each phase's rate is divided by the bare floor's rate in the same round, and the table shows
+the median of those ratios, the targets, and the gunicorn workers' CPU time per request (from
+/proc), whose differences between instances say where the time goes.
+
+Every phase is bounded by time and by a request count; each gunicorn runs in a process group
+of its own, and the script stops every one it started (by process id, then its group).
 """
 
 from __future__ import annotations
@@ -36,7 +44,7 @@ import time
 import urllib.request
 from collections.abc import Iterator, Sequence
 from concurrent.futures import ProcessPoolExecutor
-from contextlib import contextmanager
+from contextlib import ExitStack, contextmanager
 from dataclasses import dataclass, replace
 from multiprocessing import get_context
 from pathlib import Path
@@ -44,20 +52,34 @@ from pathlib import Path
 REPO_ROOT = Path(__file__).resolve().parents[2]
 BENCH_DIR = Path(__file__).resolve().parent
 GUNICORN_CONF = REPO_ROOT / "deploy" / "gunicorn.conf.py"
-BENCH_APP = "empty_app:create_bench_app()"
 HOST = "127.0.0.1"
 STARTUP_TIMEOUT_S = 60.0
+SHUTDOWN_TIMEOUT_S = 30.0
 REQUEST_TIMEOUT_S = 10.0
 MAX_ERRORS_PER_CLIENT = 50
-CACHED_TARGET = 0.70
-FIRST_ANSWER_TARGET = 0.50
+#: Rate of the cached answer as a fraction of the bare floor's.
+CACHED_TARGET = 0.85
+#: Rate of a first (uncached) answer as a fraction of the bare floor's.
+FIRST_ANSWER_TARGET = 0.70
+EMPTY_PATH = "/bench/empty"
+
+
+@dataclass(frozen=True, slots=True)
+class Instance:
+    """One gunicorn to start: a key, what it is, the app it loads and extra environment."""
+
+    key: str
+    label: str
+    target: str
+    environment: tuple[tuple[str, str], ...] = ()
 
 
 @dataclass(frozen=True, slots=True)
 class Scenario:
-    """One kind of request: a label, and a path template (``{n}`` varies per request)."""
+    """One phase kind: the instance asked, a label, and a path template (``{n}`` varies)."""
 
     key: str
+    instance: str
     label: str
     shown: str
     template: str
@@ -87,7 +109,7 @@ class Tally:
 
 @dataclass(frozen=True, slots=True)
 class Server:
-    """The benchmarked gunicorn: its port, and the pid of its master process."""
+    """A benchmarked gunicorn: its port, and the pid of its master process."""
 
     port: int
     pid: int
@@ -106,7 +128,7 @@ class Phase:
 class Options:
     """Command-line options."""
 
-    workers: int | None
+    workers: int
     clients: int
     duration_s: float
     rounds: int
@@ -116,25 +138,46 @@ class Options:
     require_targets: bool
 
 
+INSTANCES = (
+    Instance("bare", "bare Flask", "empty_app:create_bare_app()"),
+    Instance("product", "product", "empty_app:create_product_app()"),
+    Instance(
+        "no-log", "product, access log off", "empty_app:create_product_app()",
+        (("URNBOUND_ACCESS_LOG", "0"),),
+    ),
+    Instance(
+        "no-metrics", "product, metrics off", "empty_app:create_product_app_without_metrics()"
+    ),
+    Instance(
+        "no-cache", "product, answer cache off", "empty_app:create_product_app()",
+        (("URNBOUND_CACHE_ENTRIES", "0"),),
+    ),
+)
+
+
 def scenarios(bits: int, count: int) -> tuple[Scenario, ...]:
-    """The three request kinds, the empty endpoint first (it is the denominator)."""
+    """Every phase kind, the bare floor first (it is the denominator)."""
     question = f"/v1/collisions?bits={bits}&count="
+    same = f"GET {question}{count} (same question)"
+    fresh = f"GET {question}<new count each request>"
     return (
-        Scenario("empty", "empty JSON", "GET /bench/empty", "/bench/empty", None),
-        Scenario(
-            "cached",
-            "collisions, cached",
-            f"GET {question}{count} (same question)",
-            f"{question}{count}",
-            CACHED_TARGET,
-        ),
-        Scenario(
-            "first",
-            "collisions, first answer",
-            f"GET {question}<new count each request>",
-            question + "{n}",
-            FIRST_ANSWER_TARGET,
-        ),
+        Scenario("floor", "bare", "empty JSON", f"GET {EMPTY_PATH}", EMPTY_PATH, None),
+        Scenario("empty", "product", "empty JSON", f"GET {EMPTY_PATH}", EMPTY_PATH, None),
+        Scenario("cached", "product", "collisions, cached", same, question + str(count),
+                 CACHED_TARGET),
+        Scenario("first", "product", "collisions, first answer", fresh, question + "{n}",
+                 FIRST_ANSWER_TARGET),
+        Scenario("empty-nolog", "no-log", "empty JSON", f"GET {EMPTY_PATH}", EMPTY_PATH, None),
+        Scenario("cached-nolog", "no-log", "collisions, cached", same, question + str(count),
+                 None),
+        Scenario("first-nolog", "no-log", "collisions, first answer", fresh, question + "{n}",
+                 None),
+        Scenario("empty-nometrics", "no-metrics", "empty JSON", f"GET {EMPTY_PATH}", EMPTY_PATH,
+                 None),
+        Scenario("cached-nometrics", "no-metrics", "collisions, cached", same,
+                 question + str(count), None),
+        Scenario("same-nocache", "no-cache", "collisions, same question recomputed", same,
+                 question + str(count), None),
     )
 
 
@@ -273,9 +316,13 @@ def free_port() -> int:
         return port
 
 
-def gunicorn_environment(port: int, metrics_dir: str, workers: int | None) -> dict[str, str]:
-    """The environment of the benchmarked gunicorn: the deploy settings, bound to loopback."""
-    environment = dict(os.environ)
+def gunicorn_environment(
+    instance: Instance, port: int, metrics_dir: str, workers: int
+) -> dict[str, str]:
+    """The environment of one benchmarked gunicorn: the deploy settings, bound to loopback."""
+    environment = {
+        key: value for key, value in os.environ.items() if not key.startswith("URNBOUND_")
+    }
     paths = [str(BENCH_DIR), str(REPO_ROOT / "service")]
     if environment.get("PYTHONPATH"):
         paths.append(environment["PYTHONPATH"])
@@ -283,32 +330,33 @@ def gunicorn_environment(port: int, metrics_dir: str, workers: int | None) -> di
         {
             "URNBOUND_HOST": HOST,
             "URNBOUND_PORT": str(port),
+            "URNBOUND_WORKERS": str(workers),
             "PROMETHEUS_MULTIPROC_DIR": metrics_dir,
             "PYTHONPATH": os.pathsep.join(paths),
         }
     )
-    if workers is not None:
-        environment["URNBOUND_WORKERS"] = str(workers)
+    environment.update(dict(instance.environment))
     return environment
 
 
 @contextmanager
-def running_gunicorn(options: Options, work_dir: str) -> Iterator[Server]:
-    """Start gunicorn on a free loopback port, yield it, always stop it."""
+def running_gunicorn(instance: Instance, workers: int, work_dir: str) -> Iterator[Server]:
+    """Start one gunicorn on a free loopback port, yield it, always stop it."""
     port = free_port()
-    metrics_dir = os.path.join(work_dir, "metrics")
-    os.mkdir(metrics_dir)
-    log_path = os.path.join(work_dir, "gunicorn.log")
-    command = [sys.executable, "-m", "gunicorn", "--config", str(GUNICORN_CONF), BENCH_APP]
+    own_dir = os.path.join(work_dir, instance.key)
+    metrics_dir = os.path.join(own_dir, "metrics")
+    os.makedirs(metrics_dir)
+    log_path = os.path.join(own_dir, "gunicorn.log")
+    command = [sys.executable, "-m", "gunicorn", "--config", str(GUNICORN_CONF), instance.target]
     with open(log_path, "wb") as log:
         process = subprocess.Popen(
             command,
             cwd=REPO_ROOT,
-            env=gunicorn_environment(port, metrics_dir, options.workers),
+            env=gunicorn_environment(instance, port, metrics_dir, workers),
             stdin=subprocess.DEVNULL,
             stdout=subprocess.DEVNULL,  # one JSON access-log line per request
             stderr=log,
-            start_new_session=True,
+            start_new_session=True,  # its own process group, so that it can be killed whole
         )
     try:
         wait_until_ready(process, port, log_path)
@@ -318,45 +366,38 @@ def running_gunicorn(options: Options, work_dir: str) -> Iterator[Server]:
 
 
 def wait_until_ready(process: subprocess.Popen[bytes], port: int, log_path: str) -> None:
-    """Return once /healthz answers; exit with gunicorn's log if it does not in time."""
+    """Return once the empty endpoint answers; exit with gunicorn's log if it does not in time."""
     deadline = time.monotonic() + STARTUP_TIMEOUT_S
     while time.monotonic() < deadline and process.poll() is None:
-        if fetch(port, "/healthz")[0] == 200:
+        if fetch(port, EMPTY_PATH)[0] == 200:
             return
         time.sleep(0.1)
     with open(log_path, encoding="utf-8", errors="replace") as log:
-        sys.exit(f"gunicorn did not become healthy:\n{log.read()}")
+        raise SystemExit(f"gunicorn did not become ready:\n{log.read()}")
 
 
 def stop(process: subprocess.Popen[bytes]) -> None:
-    """Terminate gunicorn; kill its process group if it lingers."""
+    """Stop gunicorn by its pid; kill its whole process group if it lingers."""
     if process.poll() is None:
         process.terminate()
     try:
-        process.wait(timeout=30)
+        process.wait(timeout=SHUTDOWN_TIMEOUT_S)
     except subprocess.TimeoutExpired:
         with contextlib.suppress(ProcessLookupError):
             os.killpg(process.pid, signal.SIGKILL)
-        process.wait(timeout=30)
+        process.wait(timeout=SHUTDOWN_TIMEOUT_S)
+    # Workers left behind by a master that died first share its process group.
+    with contextlib.suppress(ProcessLookupError, PermissionError):
+        os.killpg(process.pid, signal.SIGKILL)
 
 
-def worker_count(options: Options) -> int:
-    """The number of gunicorn workers the deploy configuration will start."""
-    if options.workers:
-        return options.workers
-    import runpy
-
-    settings = runpy.run_path(str(GUNICORN_CONF))
-    return int(settings["workers"])
-
-
-def check_answers(server: Server, chosen: Sequence[Scenario]) -> None:
-    """Exit unless every endpoint answers 200 before any timing starts."""
+def check_answers(servers: dict[str, Server], chosen: Sequence[Scenario]) -> None:
+    """Exit unless every phase's request answers 200 before any timing starts."""
     for scenario in chosen:
         path = scenario.template.format(n=10**9 + 7)
-        status, _ = fetch(server.port, path)
+        status, _ = fetch(servers[scenario.instance].port, path)
         if status != 200:
-            sys.exit(f"{path} answered {status or 'nothing'}; nothing was measured")
+            raise SystemExit(f"{scenario.instance} {path} answered {status or 'nothing'}")
 
 
 @dataclass(frozen=True, slots=True)
@@ -371,8 +412,10 @@ class Measurements:
     first_answer_lookups: dict[str, float]
 
 
-def measure(options: Options, server: Server, chosen: Sequence[Scenario]) -> Measurements:
-    """Warm up, then run ``rounds`` rounds of every scenario, rotating their order."""
+def measure(
+    options: Options, servers: dict[str, Server], chosen: Sequence[Scenario]
+) -> Measurements:
+    """Warm up, then run ``rounds`` rounds of every phase, rotating their order."""
     measured = Measurements({s.key: [] for s in chosen}, {s.key: [] for s in chosen}, 0, {})
     errors = 0
     # Counts above anything the cached question or the warm-up uses, unique across the run.
@@ -381,10 +424,12 @@ def measure(options: Options, server: Server, chosen: Sequence[Scenario]) -> Mea
         list(pool.map(warm_up_client, range(options.clients)))
         warm = replace(options, duration_s=min(1.0, options.duration_s))
         for scenario in chosen:
-            run_phase(pool, warm, server, scenario.template, next(numbers))
+            run_phase(pool, warm, servers[scenario.instance], scenario.template, next(numbers))
         for index in range(options.rounds):
-            # Rotating the order keeps a slow moment of the machine off any one scenario.
-            for scenario in [*chosen[index % len(chosen) :], *chosen[: index % len(chosen)]]:
+            # Rotating the order keeps a slow moment of the machine off any one phase.
+            shift = index % len(chosen)
+            for scenario in [*chosen[shift:], *chosen[:shift]]:
+                server = servers[scenario.instance]
                 before = cache_lookups(server) if scenario.key == "first" else None
                 phase = run_phase(pool, options, server, scenario.template, next(numbers))
                 measured.rates[scenario.key].append(phase.rate)
@@ -398,14 +443,20 @@ def measure(options: Options, server: Server, chosen: Sequence[Scenario]) -> Mea
     return replace(measured, errors=errors)
 
 
-def ratio_to_empty(measured: Measurements, key: str) -> float:
-    """Median over rounds of the scenario's rate divided by the empty endpoint's in that round.
+def ratio_to_floor(measured: Measurements, key: str) -> float:
+    """Median over rounds of the phase's rate divided by the bare floor's in that round.
 
     Within one round the phases run seconds apart, so the ratio is less exposed to other load
     on the machine than the ratio of two medians.
     """
-    pairs = zip(measured.rates[key], measured.rates["empty"], strict=True)
+    pairs = zip(measured.rates[key], measured.rates["floor"], strict=True)
     return statistics.median(rate / floor for rate, floor in pairs)
+
+
+def median_cpu_us(measured: Measurements, key: str) -> float | None:
+    """Median server CPU microseconds per request of one phase, if measured."""
+    costs = measured.cpu[key]
+    return 1e6 * statistics.median(costs) if costs else None
 
 
 def percent(value: float) -> str:
@@ -413,43 +464,62 @@ def percent(value: float) -> str:
     return f"{100 * value:.0f} %"
 
 
-def cpu_columns(measured: Measurements, key: str) -> tuple[str, str]:
-    """Median server CPU per request, and the rate ratio that CPU cost alone would allow."""
-    costs, floors = measured.cpu[key], measured.cpu["empty"]
-    if not costs or len(costs) != len(floors):
-        return "n/a", "n/a"
-    implied = statistics.median(floor / cost for cost, floor in zip(costs, floors, strict=True))
-    return f"{1e3 * statistics.median(costs):.2f} ms", percent(implied)
-
-
-def table(chosen: Sequence[Scenario], measured: Measurements, rounds: int) -> list[str]:
-    """The markdown table: rates, ratio to empty, target, and server CPU per request."""
+def table(
+    chosen: Sequence[Scenario], measured: Measurements, rounds: int, labels: dict[str, str]
+) -> list[str]:
+    """The markdown table: rates, ratio to the floor, target, and server CPU per request."""
     lines = [
-        f"| Endpoint | Request | Requests/s (median of {rounds}) | Range | vs empty | Target "
-        "| Server CPU/request | vs empty by CPU |",
-        "|---|---|---:|---:|---:|---|---:|---:|",
+        f"| Instance | Request | Requests/s (median of {rounds}) | Range | vs bare floor "
+        "| Target (ratio / target) | Server CPU/request |",
+        "|---|---|---:|---:|---:|---|---:|",
     ]
     for scenario in chosen:
         values = measured.rates[scenario.key]
-        ratio = ratio_to_empty(measured, scenario.key)
+        ratio = ratio_to_floor(measured, scenario.key)
         if scenario.target is None:
             target = "-"
         else:
             verdict = "met" if ratio >= scenario.target else "MISSED"
-            target = f">= {percent(scenario.target)} ({verdict})"
-        cpu, by_cpu = cpu_columns(measured, scenario.key)
+            target = f">= {percent(scenario.target)}: {ratio / scenario.target:.2f} ({verdict})"
+        cpu = median_cpu_us(measured, scenario.key)
+        cpu_text = "n/a" if cpu is None else f"{cpu:,.0f} us"
         lines.append(
-            f"| {scenario.label} | `{scenario.shown}` | {statistics.median(values):,.0f} "
-            f"| {min(values):,.0f}-{max(values):,.0f} | {percent(ratio)} | {target} "
-            f"| {cpu} | {by_cpu} |"
+            f"| {labels[scenario.instance]} | {scenario.label}: `{scenario.shown}` "
+            f"| {statistics.median(values):,.0f} | {min(values):,.0f}-{max(values):,.0f} "
+            f"| {percent(ratio)} | {target} | {cpu_text} |"
         )
     return lines
 
 
+#: Where the time goes: (what, phase that has it, phase without it), by server CPU.
+BREAKDOWN = (
+    ("product middleware in all (empty endpoint: product - bare)", "empty", "floor"),
+    ("access log (empty endpoint: product - log off)", "empty", "empty-nolog"),
+    ("request metrics (empty endpoint: product - metrics off)", "empty", "empty-nometrics"),
+    ("cached answer's view (cached - empty endpoint)", "cached", "empty"),
+    ("first answer's view (first answer - empty endpoint)", "first", "empty"),
+    ("access log on a cached answer (cached: product - log off)", "cached", "cached-nolog"),
+    ("request metrics on a cached answer (cached: product - metrics off)", "cached",
+     "cached-nometrics"),
+    ("what the answer cache saves (recomputed - cached)", "same-nocache", "cached"),
+)
+
+
+def breakdown(measured: Measurements) -> list[str]:
+    """Differences of median server CPU per request between phases, as a markdown table."""
+    lines = ["| Where the time goes | Server CPU/request |", "|---|---:|"]
+    for label, having, lacking in BREAKDOWN:
+        with_it, without = median_cpu_us(measured, having), median_cpu_us(measured, lacking)
+        if with_it is None or without is None:
+            continue
+        lines.append(f"| {label} | {with_it - without:+,.0f} us |")
+    return lines
+
+
 def targets_met(chosen: Sequence[Scenario], measured: Measurements) -> bool:
-    """Whether every scenario with a target reached it."""
+    """Whether every phase with a target reached it."""
     return all(
-        ratio_to_empty(measured, scenario.key) >= scenario.target
+        ratio_to_floor(measured, scenario.key) >= scenario.target
         for scenario in chosen
         if scenario.target is not None
     )
@@ -463,30 +533,36 @@ def gunicorn_version() -> str:
 
 
 def report(options: Options, chosen: Sequence[Scenario], measured: Measurements) -> None:
-    """Print the setting, the table and the cache check."""
+    """Print the setting, the tables and the cache check."""
     cpus = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count()
+    load = os.getloadavg()[0] if hasattr(os, "getloadavg") else float("nan")
     print(
-        f"gunicorn {gunicorn_version()}, deploy/gunicorn.conf.py, "
-        f"{worker_count(options)} sync workers; Python {platform.python_version()}; "
-        f"{cpus} CPUs shared by server and load; {options.clients} client processes on "
-        f"{HOST}; {options.rounds} interleaved rounds of {options.duration_s:g} s per endpoint."
+        f"gunicorn {gunicorn_version()}, deploy/gunicorn.conf.py, {options.workers} sync "
+        f"workers per instance; Python {platform.python_version()}; {cpus} CPUs shared by "
+        f"server and load (1-minute load average {load:.2f} at the end); {options.clients} "
+        f"client process(es) on {HOST}; {options.rounds} interleaved rounds of "
+        f"{options.duration_s:g} s per phase."
     )
     print()
-    print("\n".join(table(chosen, measured, options.rounds)))
+    labels = {instance.key: instance.label for instance in INSTANCES}
+    print("\n".join(table(chosen, measured, options.rounds, labels)))
+    print()
+    print("\n".join(breakdown(measured)))
     print()
     hits = measured.first_answer_lookups.get("hit", 0.0)
     misses = measured.first_answer_lookups.get("miss", 0.0)
     if hits or misses:
         print(f"Answer cache during first-answer phases: {misses:,.0f} misses, {hits:,.0f} hits.")
     print(
-        "vs empty: median over rounds of the rate divided by the empty endpoint's rate in the "
-        "same round. Server CPU/request: CPU time of all gunicorn workers (from /proc) per "
-        "answered request; vs empty by CPU: the rate ratio if that cost were the only limit."
+        "vs bare floor: median over rounds of the phase's rate divided by the bare Flask "
+        "empty endpoint's rate in the same round. Server CPU/request: CPU time of the "
+        "instance's gunicorn workers (from /proc) per answered request; the second table "
+        "subtracts those medians between instances or requests."
     )
     print(
-        "Server and load generator share the machine; the load's own cost per request is the "
-        "same for every endpoint and narrows the rate gaps, which the CPU columns leave out. "
-        "Compare ratios from one run, not figures across machines."
+        "Server and load generator share the machine, and the load's own cost per request is "
+        "the same for every phase, which narrows the rate gaps. Compare ratios from one run, "
+        "not figures across machines."
     )
     if measured.errors:
         print(f"WARNING: {measured.errors} requests failed or did not answer 200.")
@@ -495,8 +571,8 @@ def report(options: Options, chosen: Sequence[Scenario], measured: Measurements)
 def parse_options(argv: Sequence[str] | None) -> Options:
     """Options from the command line."""
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0] if __doc__ else None)
-    parser.add_argument("--workers", type=int, default=None, help="override URNBOUND_WORKERS")
-    parser.add_argument("--clients", type=int, default=None, help="client processes")
+    parser.add_argument("--workers", type=int, default=2, help="gunicorn workers per instance")
+    parser.add_argument("--clients", type=int, default=1, help="load client processes")
     parser.add_argument("--duration", type=float, default=2.0, help="seconds per phase")
     parser.add_argument("--rounds", type=int, default=5, help="interleaved rounds")
     parser.add_argument(
@@ -508,17 +584,17 @@ def parse_options(argv: Sequence[str] | None) -> Options:
         "--require-targets", action="store_true", help="exit 2 when a target is missed"
     )
     args = parser.parse_args(argv)
-    if args.workers is not None and not 1 <= args.workers <= 64:
-        parser.error("--workers must be from 1 to 64")
+    if not 1 <= args.workers <= 64 or not 1 <= args.clients <= 64:
+        parser.error("--workers and --clients must be from 1 to 64")
     if not 0.5 <= args.duration <= 60 or not 1 <= args.rounds <= 20:
         parser.error("--duration must be 0.5..60 s and --rounds 1..20")
     if not 1 <= args.max_requests <= 10**6:
         parser.error("--max-requests must be from 1 to 1000000")
     if not 1 <= args.bits <= 8192 or not 0 <= args.count <= 10**15:
         parser.error("--bits must be 1..8192 and --count 0..1e15")
-    options = Options(
+    return Options(
         workers=args.workers,
-        clients=1,
+        clients=args.clients,
         duration_s=args.duration,
         rounds=args.rounds,
         max_requests=args.max_requests,
@@ -526,21 +602,21 @@ def parse_options(argv: Sequence[str] | None) -> Options:
         count=args.count,
         require_targets=args.require_targets,
     )
-    # Enough clients that every sync worker always has a request waiting.
-    clients = args.clients if args.clients is not None else worker_count(options) + 2
-    if not 1 <= clients <= 256:
-        parser.error("--clients must be from 1 to 256")
-    return replace(options, clients=clients)
 
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the benchmark once; 0 on success, 1 on failed requests, 2 on missed targets."""
     options = parse_options(argv)
     chosen = scenarios(options.bits, options.count)
-    with tempfile.TemporaryDirectory(prefix="urnbound-bench-") as work_dir:
-        with running_gunicorn(options, work_dir) as server:
-            check_answers(server, chosen)
-            measured = measure(options, server, chosen)
+    with tempfile.TemporaryDirectory(prefix="urnbound-bench-") as work_dir, ExitStack() as stack:
+        servers = {
+            instance.key: stack.enter_context(
+                running_gunicorn(instance, options.workers, work_dir)
+            )
+            for instance in INSTANCES
+        }
+        check_answers(servers, chosen)
+        measured = measure(options, servers, chosen)
     report(options, chosen, measured)
     if measured.errors:
         return 1
