@@ -170,7 +170,9 @@ def high_precision_risk(size: int, count: int) -> HighPrecisionRisk:
         ln_nc = ln_no_collision_direct(mp, size, count)
     else:
         ln_nc = ln_no_collision_gamma(mp, size, count)
-    return HighPrecisionRisk(mp, mp.log(-mp.expm1(ln_nc)), ln_nc)
+    # ln(1 - e**L): by log1p where the risk is near 1, so it keeps its relative accuracy
+    ln_risk = mp.log1p(-mp.exp(ln_nc)) if ln_nc < -1 else mp.log(-mp.expm1(ln_nc))
+    return HighPrecisionRisk(mp, ln_risk, ln_nc)
 
 
 def ln_of_fraction(mp: mpmath.ctx_mp.MPContext, x: Fraction) -> mpmath.mpf | None:
@@ -194,3 +196,29 @@ def ln_of_text(mp: mpmath.ctx_mp.MPContext, text: str) -> mpmath.mpf:
 def relative_gap(mp: mpmath.ctx_mp.MPContext, ln_ours: mpmath.mpf, ln_ref: mpmath.mpf) -> float:
     """|ours - ref| / ref computed from the two natural logs."""
     return float(abs(mp.expm1(ln_ours - ln_ref)))
+
+
+def nearest_float(x: mpmath.mpf) -> float:
+    """The float64 nearest to a (high-precision) mpmath value, subnormals included.
+
+    Through Python's exact rational division, which rounds correctly (half to even), so
+    independently of mpmath's own float conversion.
+    """
+    mantissa, exponent = x.man_exp
+    if mantissa == 0:
+        return 0.0
+    exact = Fraction(int(mantissa)) * Fraction(2) ** int(exponent)
+    try:
+        return float(exact)
+    except OverflowError:
+        return math.inf if exact > 0 else -math.inf
+
+
+def rounding_is_settled(mp: mpmath.ctx_mp.MPContext, x: mpmath.mpf, slack_bits: int) -> bool:
+    """True when x moved by a relative 2**-(prec - slack_bits) still rounds to one float.
+
+    Guards tests that compare with the correct rounding of a reference: the reference
+    is itself only good to its working precision.
+    """
+    eps = mp.mpf(2) ** (slack_bits - mp.prec)
+    return nearest_float(x * (1 - eps)) == nearest_float(x * (1 + eps))

@@ -19,9 +19,11 @@ from ._reference import (
     SMALLEST_NORMAL,
     high_precision_risk,
     ln_of_text,
+    nearest_float,
     parse_decimal,
     relative_gap,
     rounded_candidates,
+    rounding_is_settled,
 )
 
 #: Agreement asked of every figure, relative.
@@ -199,3 +201,48 @@ def test_reciprocal_risk_is_one_for_a_certain_collision() -> None:
     assert ours.reciprocal_risk is not None
     assert Fraction(ours.reciprocal_risk.decimal) == 1
     assert ours.reciprocal_risk.value == 1.0 and ours.reciprocal_risk.log10 == 0.0
+
+
+# --- the reciprocal risk ------------------------------------------------------------------
+
+RECIPROCAL_EXACT_POINTS = [
+    (size, count) for size in (*range(2, 21), 365, 1000, 2**64, 2**128)
+    for count in range(2, min(size, 20) + 2)
+]
+
+
+@pytest.mark.parametrize(("size", "count"), RECIPROCAL_EXACT_POINTS)
+def test_reciprocal_risk_is_correctly_rounded_on_the_exact_path(size: int, count: int) -> None:
+    # reference: sympy exact rationals; 1 / risk rounded once, to float by Python's exact
+    # division (half to even) and to 20 significant digits
+    risk = 1 - sympy.Rational(sympy.ff(size, count), sympy.Integer(size) ** count)
+    inverse = Fraction(int(risk.q), int(risk.p))
+    ours = collision_risk(size, count)
+    assert ours.method == "exact"
+    reciprocal = related_figures(size, count, ours).reciprocal_risk
+    assert reciprocal is not None
+    assert reciprocal.value == float(inverse), (size, count)
+    parsed = parse_decimal(reciprocal.decimal)
+    assert (parsed.mantissa, parsed.exponent) in rounded_candidates(inverse), (size, count)
+    assert reciprocal.relative_error_bound == 0.0
+
+
+@pytest.mark.parametrize(("size", "count"), [
+    (2**64, 5 * 10**9), (2**64, 10**9), (2**122, 2**61), (2**1103, 1_009_361_555_372),
+    (2**200, 24_296_095_744), (2**512, 2**256), (2**4096, 2**2048 * 3), (2**8192, 2**4096),
+])
+def test_reciprocal_risk_stays_within_its_bound_on_the_asymptotic_path(
+    size: int, count: int
+) -> None:
+    # reference: mpmath at 4 log2 N + 200 bits, 1 / (1 - exp(lnG(N+1) - lnG(N-n+1) - n ln N))
+    ref = high_precision_risk(size, count)
+    assert ref.ln_risk is not None
+    ours = collision_risk(size, count, exact_digit_limit=0)
+    assert ours.method == "asymptotic"
+    reciprocal = related_figures(size, count, ours).reciprocal_risk
+    assert reciprocal is not None
+    gap = relative_gap(ref.mp, ln_of_text(ref.mp, reciprocal.decimal), -ref.ln_risk)
+    assert gap <= reciprocal.relative_error_bound <= 1e-18, (gap, reciprocal)
+    exact_value = ref.mp.exp(-ref.ln_risk)
+    assert rounding_is_settled(ref.mp, exact_value, 40)
+    assert reciprocal.value == nearest_float(exact_value), reciprocal

@@ -17,6 +17,7 @@ from urnbound.core import precision as mp
 from urnbound.core.errors import NoConvergence
 from urnbound.core.reporting import (
     DECIMAL_DIGITS,
+    log10_of_complement,
     log10_value,
     rounded_quotient,
     scientific_text,
@@ -78,6 +79,19 @@ def exact_risk(size: int, count: int) -> ExactRisk:
     distinct //= common
     total //= common
     return ExactRisk(int(total - distinct), int(distinct), int(total))
+
+
+def expected_distinct(size: int, count: int) -> tuple[int, int]:
+    """N (1 - (1 - 1/N)**n) = (N**n - (N-1)**n) / N**(n-1) as (numerator, denominator).
+
+    >>> expected_distinct(365, 2)
+    (729, 365)
+    """
+    if count == 0:
+        return 0, 1
+    big = gmpy2.mpz(size)
+    denominator = big ** (count - 1)
+    return int(denominator * big - (big - 1) ** count), int(denominator)
 
 
 def risk_at_most(size: int, count: int, bound: Fraction) -> bool:
@@ -143,20 +157,21 @@ def decimal_of_fraction(numerator: int, denominator: int) -> str:
 def log10_of_fraction(numerator: int, denominator: int) -> float:
     """log10 of a positive fraction, accurate also when the fraction is close to 1.
 
-    Within 1/4 of 1 it is log1p(-c) / ln 10 with the complement c = 1 - p divided
-    exactly (Python's correctly rounded int division); elsewhere the fraction is
-    rounded to 64 bits and its logarithm taken from the binary exponent.
+    Within 1/4 of 1 it is log1p(-c) / ln 10 from the complement c = 1 - p rounded to
+    80 bits, which keeps its relative accuracy (and gives +0.0 for p = 1); elsewhere the
+    fraction is rounded to 64 bits and its logarithm taken from the binary exponent.
 
     >>> log10_of_fraction(999, 1000)
-    -0.00043451177401769125
+    -0.0004345117740176913
+    >>> math.copysign(1.0, log10_of_fraction(7, 7))
+    1.0
     """
     complement = denominator - numerator
     if 0 <= 4 * complement < denominator:
-        return math.log1p(-(complement / denominator)) / _LN10
+        return log10_of_complement(mp.ratio(complement, denominator, 80))
     return log10_value(mp.ratio(numerator, denominator, 64))
 
 
-_LN10 = math.log(10)
 
 
 def magnitude_of_fraction(numerator: int, denominator: int) -> Magnitude:

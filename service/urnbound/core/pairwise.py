@@ -1,4 +1,12 @@
-"""Pairwise collision risk (the birthday bound) and its related figures, by either path."""
+"""Pairwise collision risk (the birthday bound) and its related figures, by either path.
+
+Every float ``value`` reported is the float nearest to the true value. A figure computed
+with a relative error bound e lies in an interval of relative width e around the true
+value; when both ends of that interval round to the same float, that float is the correct
+rounding. When they do not, the figure is computed again with twice the bits (at most
+ROUNDING_TRIES times), and an undecided risk falls back to exact arithmetic where that is
+affordable.
+"""
 
 from __future__ import annotations
 
@@ -10,21 +18,24 @@ from mpmath import libmp
 from urnbound.core import precision as mp
 from urnbound.core import reporting
 from urnbound.core.asymptotic import risk_estimate
-from urnbound.core.errors import DomainError
+from urnbound.core.errors import DomainError, NoConvergence
 from urnbound.core.exact import (
-    decimal_of_fraction,
     digits_estimate,
     exact_risk,
-    float_of_fraction,
+    expected_distinct,
     magnitude_of_fraction,
 )
 from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, MAX_FRACTION_DIGITS, MAX_SIZE_BITS
 from urnbound.core.precision import Real
-from urnbound.core.regimes import choose_method
+from urnbound.core.regimes import choose_method, exact_cost_digits
 from urnbound.core.results import ASYMPTOTIC, EXACT, CollisionRisk, Magnitude, RelatedFigures
 
-#: Working precision of the expected-value figures (their cancellation is handled below).
-FIGURES_PREC = 96
+#: Computations of one figure, doubling its bits each time, before its float is given up.
+ROUNDING_TRIES = 4
+#: Largest exact cost (digits of N**n) of the exact fallback for an undecided rounding.
+FALLBACK_EXACT_DIGITS = DEFAULT_EXACT_DIGIT_LIMIT
+#: First working precision of the expected-value figures.
+FIGURES_PREC = 128
 
 
 def collision_risk(
@@ -39,8 +50,9 @@ def collision_risk(
     :param size: N, the number of equally likely values, 1 <= N <= 2**8192.
     :param count: n >= 0; n > N gives risk exactly 1.
     :param exact_digit_limit: largest estimated digit count of N**n taken exactly.
-    :param target_bits: relative accuracy asked of the asymptotic path.
+    :param target_bits: relative accuracy asked of the asymptotic path (its first try).
     :raises DomainError: for a size or count outside those ranges.
+    :raises NoConvergence: when a float cannot be rounded with certainty (not met in practice).
 
     >>> r = collision_risk(365, 23)
     >>> r.method, r.collision.decimal
@@ -81,115 +93,258 @@ def _exact_answer(size: int, count: int) -> CollisionRisk:
 
 
 def _asymptotic_answer(size: int, count: int, target_bits: int) -> CollisionRisk:
-    estimate = risk_estimate(size, count, target_bits)
-    bound = max(mp.to_float(estimate.collision_error), mp.to_float(estimate.no_collision_error))
+    """The expansion at target_bits, then at twice as many until both floats are decided."""
+    bits = target_bits
+    for _ in range(ROUNDING_TRIES):
+        try:
+            answer = _asymptotic_try(size, count, bits)
+        except NoConvergence:
+            break  # the expansion cannot reach this precision for this question
+        if answer is not None:
+            return answer
+        bits *= 2
+    if exact_cost_digits(size, count) <= FALLBACK_EXACT_DIGITS:
+        return _exact_answer(size, count)
+    raise NoConvergence("the risk lies too close to a rounding boundary to round with certainty")
+
+
+def _asymptotic_try(size: int, count: int, bits: int) -> CollisionRisk | None:
+    """The answer from one evaluation of the expansion, ``None`` if a float is undecided.
+
+    log10 of a risk of at least 1/2 is log1p(-q) / ln 10 from the complement q, which
+    keeps its relative accuracy where the risk itself is 1 to all its bits.
+    """
+    estimate = risk_estimate(size, count, bits)
+    collision_log10 = None
+    if mp.magnitude_bits(estimate.collision) >= 0:  # risk >= 1/2
+        collision_log10 = reporting.log10_of_complement(estimate.no_collision)
+    collision = reporting.bounded_magnitude(estimate.collision, estimate.collision_error,
+                                            collision_log10)
+    no_collision = reporting.bounded_magnitude_of_log(
+        estimate.no_collision, estimate.log_no_collision, estimate.no_collision_error)
+    if collision is None or no_collision is None:
+        return None
     return CollisionRisk(
         size=size,
         count=count,
-        collision=reporting.magnitude_of_real(estimate.collision),
-        no_collision=reporting.magnitude_of_log(estimate.no_collision, estimate.log_no_collision),
+        collision=collision,
+        no_collision=no_collision,
         method=ASYMPTOTIC,
-        relative_error_bound=bound + reporting.DECIMAL_ROUNDING,
+        relative_error_bound=max(collision.relative_error_bound,
+                                 no_collision.relative_error_bound),
         exact=None,
         precision_bits=estimate.prec,
     )
 
 
 def related_figures(size: int, count: int, risk: CollisionRisk) -> RelatedFigures:
-    """Expected colliding pairs, distinct values and duplicates; odds; entropy.
+    """Expected colliding pairs, distinct values and duplicates; reciprocal risk; entropy.
+
+    ``risk`` is ``collision_risk(size, count)``.
 
     >>> f = related_figures(365, 23, collision_risk(365, 23))
     >>> f.expected_colliding_pairs.decimal, round(f.expected_duplicates.value, 6)
     ('6.9315068493150684932e-1', 0.680038)
+    >>> f.reciprocal_risk.decimal
+    '1.9712309319655189442e0'
     """
     distinct, duplicates = _expected_distinct_and_duplicates(size, count)
     return RelatedFigures(
         expected_colliding_pairs=magnitude_of_fraction(count * (count - 1), 2 * size),
-        expected_distinct=reporting.magnitude_of_real(distinct),
-        expected_duplicates=reporting.magnitude_of_real(duplicates),
-        reciprocal_risk=_reciprocal(risk.collision),
+        expected_distinct=distinct,
+        expected_duplicates=duplicates,
+        reciprocal_risk=_reciprocal_risk(size, count, risk),
         entropy_bits=mp.log2_of_int(size),
     )
 
 
-def _reciprocal(probability: Magnitude) -> Magnitude | None:
-    """1 / p from the reported decimal text, read as an exact fraction and rounded once.
+def _reciprocal_risk(size: int, count: int, risk: CollisionRisk) -> Magnitude | None:
+    """1 / P(collision): from the exact fraction on the exact path, else with its bound."""
+    if risk.collision.log10 is None:
+        return None
+    if risk.method == EXACT:
+        fraction = risk.exact
+        if fraction is None:
+            exact = exact_risk(size, count)
+            fraction = Fraction(exact.collision, exact.denominator)
+        return magnitude_of_fraction(fraction.denominator, fraction.numerator)
+    from_text = _reciprocal_of_text(risk.collision)
+    if from_text is not None:
+        return from_text
+    bits = 128
+    for _ in range(ROUNDING_TRIES):
+        estimate = risk_estimate(size, count, bits)
+        found = _reciprocal_of_real(estimate.collision, estimate.collision_error,
+                                    risk.collision.log10)
+        if found is not None:
+            return found
+        bits *= 2
+    raise NoConvergence("the reciprocal risk lies too close to a rounding boundary")
 
-    >>> _reciprocal(Magnitude(0.25, "2.5000000000000000000e-1", -0.6)).decimal
+
+def _reciprocal_of_text(probability: Magnitude) -> Magnitude | None:
+    """1 / p from p's decimal text d, |d - p| <= e p: |1/d - 1/p| <= e/(1-e) (1/p).
+
+    ``None`` when the float is undecided at that accuracy.
+
+    >>> _reciprocal_of_text(Magnitude(0.25, "2.5000000000000000000e-1", -0.6, 1e-19)).decimal
     '4.0000000000000000000e0'
     """
-    if probability.log10 is None:
-        return None
     mantissa, _, exponent = probability.decimal.partition("e")
     digits = int(mantissa.replace(".", ""))
-    shift = int(exponent) - (len(mantissa) - 2)  # p = digits * 10**shift, exactly
+    shift = int(exponent) - (len(mantissa) - 2)  # p's text = digits * 10**shift, exactly
     numerator, denominator = 10 ** max(-shift, 0), digits * 10 ** max(shift, 0)
-    return Magnitude(float_of_fraction(numerator, denominator),
-                     decimal_of_fraction(numerator, denominator), -probability.log10)
+    prec = 128
+    error = libmp.from_float(probability.relative_error_bound)
+    return _reciprocal_of_real(mp.ratio(denominator, numerator, prec), error, probability.log10,
+                               prec)
 
 
-def _expected_distinct_and_duplicates(size: int, count: int) -> tuple[Real, Real]:
-    """N (1 - (1 - 1/N)**n) and n minus it, each with full relative accuracy.
+def _reciprocal_of_real(value: Real, error: Real, log10: float | None,
+                        prec: int = 128) -> Magnitude | None:
+    """1 / value, for a value within a relative ``error`` < 1/2 of the true p.
 
-    With u = 1/N and y = n log1p(-u), duplicates = n N (log1p(-u) + u) + N (expm1(y) - y):
-    two terms of opposite sign whose sum is about C(n, 2)/N, never less than half the
-    larger term when n >= 2, so no digits are lost even when n << N.
+    The reciprocal is off by at most e/(1-e) <= e (1 + 2e) relative, plus its own rounding
+    to ``prec`` bits.
     """
+    if not mp.less(error, libmp.from_man_exp(1, -1)):
+        return None
+    up = libmp.round_ceiling
+    spread = libmp.mpf_mul(error, libmp.mpf_add(mp.ONE, libmp.mpf_shift(error, 1), 53, up), 53,
+                           up)
+    total = libmp.mpf_add(spread, libmp.from_man_exp(1, 1 - prec), 53, up)
+    inverse = mp.div(mp.ONE, value, prec)
+    reciprocal_log10 = None if log10 is None else 0.0 - log10
+    return reporting.bounded_magnitude(inverse, total, reciprocal_log10)
+
+
+# --- expected distinct values and duplicates ----------------------------------------------
+
+
+def _expected_distinct_and_duplicates(size: int, count: int) -> tuple[Magnitude, Magnitude]:
+    """N (1 - (1 - 1/N)**n) and n minus it, each with a proven relative bound.
+
+    Exact (and correctly rounded) when N**n is small, or when no rounding is decided:
+    for N a power of two the figures are binary fractions, sometimes a float midpoint.
+    """
+    if count <= 1 or size == 1 or exact_cost_digits(size, count) <= EXACT_FIGURES_DIGITS:
+        return _exact_figures(size, count)
     prec = FIGURES_PREC
+    for _ in range(ROUNDING_TRIES):
+        if _ratio_gap(size, count) >= MIN_SERIES_GAP:
+            values = _figures_by_series(size, count, prec)
+        else:
+            values = _figures_by_closed_form(size, count, prec)
+        (distinct, distinct_error), (duplicates, duplicates_error) = values
+        first = reporting.bounded_magnitude(distinct, distinct_error)
+        second = reporting.bounded_magnitude(duplicates, duplicates_error)
+        if first is not None and second is not None:
+            return first, second
+        prec *= 2
+    if exact_cost_digits(size, count) <= FALLBACK_EXACT_DIGITS:
+        return _exact_figures(size, count)
+    raise NoConvergence("an expected count lies too close to a rounding boundary")
+
+
+#: Largest exact cost (digits of N**n) at which the expected figures are formed exactly.
+EXACT_FIGURES_DIGITS = 5_000
+
+
+def _exact_figures(size: int, count: int) -> tuple[Magnitude, Magnitude]:
     if count <= 1 or size == 1:
         distinct = min(count, size)
-        return mp.real(distinct, prec), mp.real(count - distinct, prec)
-    fast = _duplicates_by_binomial_series(size, count)
-    if fast is not None:
-        return fast
-    u = mp.real(Fraction(1, size), prec + 8)
-    log_keep = mp.log1p_neg(u, prec + 8)
-    y = mp.mul(mp.real(count, prec + 8), log_keep, prec + 8)
-    big = mp.real(size, prec + 8)
-    distinct = mp.mul(big, mp.neg(mp.expm1(y, prec + 8)), prec)
-    if mp.magnitude_bits(y) >= 0:  # |y| >= 1/2: duplicates >= 0.2 n, plain subtraction
-        return distinct, mp.sub(mp.real(count, prec + 8), distinct, prec)
-    first = mp.mul(mp.mul(mp.real(count, prec + 8), big, prec + 8),
-                   mp.log1p_plus(u, prec + 8), prec + 8)
-    second = mp.mul(big, mp.expm1_minus(y, prec + 8), prec + 8)
-    return distinct, mp.add(first, second, prec)
+        return magnitude_of_fraction(distinct, 1), magnitude_of_fraction(count - distinct, 1)
+    numerator, denominator = expected_distinct(size, count)
+    return (magnitude_of_fraction(numerator, denominator),
+            magnitude_of_fraction(count * denominator - numerator, denominator))
 
 
-#: The binomial series below is used when n/N < 2**-MIN_SERIES_GAP (few terms needed).
-MIN_SERIES_GAP = 7
+#: The binomial series is used when n/N < 2**-MIN_SERIES_GAP (then it needs few terms).
+MIN_SERIES_GAP = 32
 
 
-def _duplicates_by_binomial_series(size: int, count: int) -> tuple[Real, Real] | None:
-    """Distinct values and duplicates from C(n,2)/N - C(n,3)/N**2 + C(n,4)/N**3 - ...
+def _ratio_gap(size: int, count: int) -> int:
+    """g with n/N < 2**-g, from the bit lengths."""
+    return size.bit_length() - count.bit_length() - 1
 
-    Expanding N (1 - (1 - 1/N)**n) binomially gives duplicates = sum_{j>=2} (-1)**j
-    C(n, j) / N**(j-1). For n/N < 2**-7 the terms fall by a factor (n - j)/((j + 1) N)
-    < 2**-7, so the series alternates with decreasing terms and its tail is below the
-    first omitted term. Terms are exact rationals, floored once each in units of
-    2**-scale, with scale chosen so that the sum is at least 2**91 units: the result is
-    good to (terms + 1) units, far below 2**-FIGURES_PREC relative. ``None`` when n/N is
-    too large for few terms.
 
-    >>> distinct, duplicates = _duplicates_by_binomial_series(2**64, 10**9)
-    >>> round(mp.to_float(duplicates), 12)
-    0.027105054285
+def _context(prec: int) -> gmpy2.context:
+    """An MPFR context at ``prec`` bits, rounding to nearest, with the widest exponents."""
+    return gmpy2.context(precision=prec, emin=gmpy2.get_emin_min(), emax=gmpy2.get_emax_max())
+
+
+def _from_mpfr(value: gmpy2.mpfr) -> Real:
+    mantissa, exponent = value.as_mantissa_exp()
+    return libmp.from_man_exp(int(mantissa), int(exponent))
+
+
+def _bound(units: int, prec: int) -> Real:
+    """units * 2**-prec, as a bound."""
+    return libmp.from_man_exp(units, -prec)
+
+
+def _figures_by_series(size: int, count: int, prec: int) -> tuple[tuple[Real, Real], ...]:
+    """duplicates = sum_{j>=2} (-1)**j C(n, j) / N**(j-1), for x = n/N < 2**-32.
+
+    With t_2 = n(n-1)/(2N) and t_(j+1) = t_j (n-j) / ((j+1) N), each term falls by a factor
+    below x. Every MPFR operation rounds correctly (relative d = 2**-prec each): t_2 is off
+    by 3d, each later term by 4d more than the one before, so t_j by (4j-5)d. The terms
+    are added while above 2**-(prec+8) t_2 (the alternating tail is below the first
+    omitted term), each addition off by d of a partial sum below t_2 (1 + x). With J <= 8
+    terms and x < 2**-32 the sum, at least t_2 (1 - x), is off by under (J + 6) d relative:
+    14 d; 16 d is stated. distinct = n - sum: n and the difference rounded once each, and
+    16 d of the sum is below 16 x d of n, so 4 d bounds it relative to distinct > n/2.
     """
-    if size.bit_length() - count.bit_length() - 1 < MIN_SERIES_GAP:
-        return None
-    pairs = gmpy2.mpz(count) * (count - 1) // 2
-    big = gmpy2.mpz(size)
-    scale = max(0, 92 - int(pairs.bit_length()) + size.bit_length())
-    total = gmpy2.mpz(0)
-    binomial, power, sign = pairs, big, 1
-    for j in range(2, 64):
-        term = (binomial << scale) // power
-        if term == 0:
-            duplicates = libmp.from_man_exp(int(total), -scale, FIGURES_PREC, mp.NEAREST)
-            distinct = libmp.from_man_exp(int((gmpy2.mpz(count) << scale) - total), -scale,
-                                          FIGURES_PREC, mp.NEAREST)
-            return distinct, duplicates
-        total += sign * term
-        sign = -sign
-        binomial = binomial * (count - j) // (j + 1)
-        power *= big
-    return None
+    ctx = _context(prec)
+    big = gmpy2.mpfr(gmpy2.mpz(size), prec, ctx)
+    term = ctx.div(gmpy2.mpfr(gmpy2.mpz(count) * (count - 1) // 2, prec, ctx), big)
+    floor = ctx.mul_2exp(term, -(prec + 8))
+    total = term
+    for j in range(2, MAX_FIGURE_TERMS + 2):
+        step = ctx.div(gmpy2.mpfr(gmpy2.mpz(count - j), prec, ctx), ctx.mul(big, j + 1))
+        term = ctx.mul(term, step)
+        if term < floor or count - j <= 0:
+            distinct = ctx.sub(gmpy2.mpfr(gmpy2.mpz(count), prec, ctx), total)
+            return (_from_mpfr(distinct), _bound(4, prec)), (_from_mpfr(total), _bound(16, prec))
+        total = ctx.sub(total, term) if j % 2 == 0 else ctx.add(total, term)
+    raise NoConvergence("the series of expected duplicates did not converge")
+
+
+#: Most terms of that series: (prec + 8) / 32 + 2 at the first precision.
+MAX_FIGURE_TERMS = 8
+
+
+def _figures_by_closed_form(size: int, count: int, prec: int) -> tuple[tuple[Real, Real], ...]:
+    """distinct = -N expm1(n log1p(-1/N)), duplicates = n - distinct, for x >= 2**-32.
+
+    Work at w = prec + 40 bits, d = 2**-w, every MPFR operation correctly rounded: 1/N is
+    off by d; log1p(-u) has relative condition u / ((1-u) |log1p(-u)|) <= 2 (u <= 1/2), so
+    3d; n rounded and the product, 5d; expm1(y) has condition |y| e**y / (1 - e**y) <= 1
+    for y < 0, so 6d; N rounded and the product, 8d, stated as 9d for second-order terms.
+    duplicates = n - distinct is off by at most d (10 n + duplicates) absolutely (n
+    rounded, distinct <= n off by 9d, the difference rounded); that is turned into a
+    relative bound from the computed value, which is at least n x / 3 here.
+    """
+    work = prec + 40
+    ctx = _context(work)
+    big = gmpy2.mpfr(gmpy2.mpz(size), work, ctx)
+    many = gmpy2.mpfr(gmpy2.mpz(count), work, ctx)
+    keep = ctx.log1p(ctx.div(-1, big))
+    distinct = ctx.mul(big, ctx.minus(ctx.expm1(ctx.mul(many, keep))))
+    duplicates = ctx.sub(many, distinct)
+    return ((_from_mpfr(distinct), _bound(9, work)),
+            (_from_mpfr(duplicates), _relative_of_absolute(count, _from_mpfr(duplicates), work)))
+
+
+def _relative_of_absolute(count: int, duplicates: Real, work: int) -> Real:
+    """A relative bound from the absolute one a = 2**-work (10 n + duplicates): a / (dup - a).
+
+    Every step rounds away from the value it bounds.
+    """
+    up, down = libmp.round_ceiling, libmp.round_floor
+    absolute = libmp.mpf_shift(libmp.mpf_add(libmp.from_int(10 * count, 64, up), duplicates,
+                                             64, up), -work)
+    low = libmp.mpf_sub(duplicates, absolute, 64, down)
+    if not mp.less(mp.ZERO, low):
+        raise NoConvergence("expected duplicates not resolved at this precision")
+    return libmp.mpf_div(absolute, low, 64, up)

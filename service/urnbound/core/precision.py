@@ -104,28 +104,36 @@ def scale2(a: Real, power: int) -> Real:
 
 
 def to_float(a: Real) -> float:
-    """Nearest float64; ``0.0`` on underflow and ``inf`` on overflow.
+    """The float64 nearest to ``a`` (half to even), subnormals included; ``inf`` past the range.
+
+    Rounded once, in integers, to the float grid at a's binary exponent: 53 bits for
+    normal results, the step 2**-1074 below 2**-1022.
 
     >>> to_float(real(Fraction(1, 3), 200)) == 1 / 3
     True
+    >>> to_float(libmp.from_man_exp(3, -1076)), to_float(libmp.from_man_exp(1, -1075))
+    (5e-324, 0.0)
     """
     sign, mantissa, exponent, bits = a
     if not mantissa:
-        return 0.0
-    top = exponent + bits
-    if top < -1100:
-        return -0.0 if sign else 0.0
-    if top > 1025:
+        return 0.0 if a == libmp.fzero else float(libmp.to_float(a))
+    top = int(exponent + bits)  # 2**(top-1) <= |a| < 2**top
+    if top > 1024:
         return -math.inf if sign else math.inf
-    if top <= -1020:  # subnormal results: let mpmath round them
-        return float(libmp.to_float(a, rnd=NEAREST))
-    if bits > 64:  # keep 64 bits and a sticky bit: float() then rounds as the full value would
-        cut = int(bits) - 64
-        kept = mantissa >> cut
-        mantissa = kept | 1 if (kept << cut) != mantissa else kept
-        exponent += cut
+    if top < -1074:  # below half the smallest subnormal
+        return -0.0 if sign else 0.0
+    step = max(top - 53, -1074)  # exponent of the last bit kept
+    shift = step - int(exponent)
+    if shift > 0:
+        kept = int(mantissa) >> shift
+        rest = int(mantissa) - (kept << shift)
+        half = 1 << (shift - 1)
+        if rest > half or (rest == half and kept & 1):
+            kept += 1
+    else:
+        kept = int(mantissa) << -shift
     try:
-        value = math.ldexp(float(mantissa), int(exponent))
+        value = math.ldexp(float(kept), step)  # kept <= 2**53: exact
     except OverflowError:  # rounds up past the largest float
         value = math.inf
     return -value if sign else value

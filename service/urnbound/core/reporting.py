@@ -117,7 +117,7 @@ def log10_value(a: Real, prec: int = 64) -> float:
         return math.inf if binary_exponent > 0 else -math.inf
     if binary_exponent in (0, 1):
         offset = mp.to_float(mp.sub(a, mp.ONE, int(bits) + 2))
-        return math.log1p(offset) / _LN10
+        return math.log1p(offset) / _LN10 + 0.0  # + 0.0: log10(1) is +0.0, never -0.0
     if -1020 <= binary_exponent <= 1020:  # a normal float, away from 1: no cancellation
         return math.log10(mp.to_float(a))
     return _rough_log10(int(mantissa), binary_exponent, int(bits))
@@ -136,28 +136,108 @@ def _rough_log10(mantissa: int, binary_exponent: int, bits: int) -> float:
 
 
 def magnitude_of_real(a: Real) -> Magnitude:
-    """Report a non-negative real computed to working precision."""
+    """Report a non-negative real known exactly (a binary value): every figure rounded once.
+
+    >>> magnitude_of_real(mp.ratio(1, 8, 53))
+    Magnitude(value=0.125, decimal='1.2500000000000000000e-1', log10=-0.9030899869919435, \
+relative_error_bound=0.0)
+    """
     if mp.is_zero(a):
         return Magnitude(0.0, "0", None)
     log10 = log10_value(a)
     return Magnitude(mp.to_float(a), decimal_text(a, log10), log10)
 
 
-def magnitude_of_log(a: Real, log_a: Real) -> Magnitude:
-    """Report a positive real whose natural logarithm is known more accurately.
+#: 5e-20 rounded up: the relative rounding of a value to DECIMAL_DIGITS digits is below it.
+_DECIMAL_ROUNDING_UP = math.nextafter(DECIMAL_ROUNDING, 1.0)
+#: Bits kept in the ends of an error interval (enough to tell float neighbours apart).
+_INTERVAL_BITS = 96
 
-    log10 is ln(a) / ln 10 in float arithmetic (one rounding of ln(a), one division),
-    or at 64 bits when ln(a) itself is past the float range.
+
+def interval_float(value: Real, error: Real) -> float | None:
+    """The float nearest to every real within a relative ``error`` of the true value.
+
+    ``value`` approximates a positive x with |value - x| <= error * x, so x lies in
+    [value / (1 + error), value / (1 - error)]; the ends are rounded outwards. When both
+    ends round to the same float, that float is the correctly rounded x (rounding to
+    nearest is monotonic); otherwise ``None``, and the caller computes x more precisely.
+
+    >>> interval_float(mp.ratio(1, 3, 100), libmp.from_man_exp(1, -90)) == 1 / 3
+    True
+    >>> interval_float(mp.ratio(1, 3, 100), libmp.from_man_exp(1, -40)) is None
+    True
     """
-    natural = mp.to_float(log_a)
+    if not mp.less(error, mp.ONE):
+        return None
+    prec = max(_INTERVAL_BITS, int(value[3]) + 8)
+    low = libmp.mpf_div(value, libmp.mpf_add(mp.ONE, error, prec, libmp.round_ceiling),
+                        prec, libmp.round_floor)
+    high = libmp.mpf_div(value, libmp.mpf_sub(mp.ONE, error, prec, libmp.round_floor),
+                         prec, libmp.round_ceiling)
+    low_float = mp.to_float(low)
+    return low_float if low_float == mp.to_float(high) else None
+
+
+def text_bound(error: Real) -> float:
+    """Bound on the relative error of the DECIMAL_DIGITS text of a value ``error`` off.
+
+    The text t rounds v with |t - v| <= 5e-20 v and |v - x| <= error x, so
+    |t - x| <= (error + 5e-20 (1 + error)) x; each float step below rounds upwards.
+
+    >>> text_bound(mp.ZERO) > 5e-20
+    True
+    """
+    bound = math.nextafter(float(libmp.to_float(error, rnd=libmp.round_ceiling)), math.inf)
+    return math.nextafter(bound + _DECIMAL_ROUNDING_UP * (1.0 + bound), math.inf)
+
+
+def bounded_magnitude(value: Real, error: Real, log10: float | None = None) -> Magnitude | None:
+    """Report a positive real known to a relative ``error``; ``None`` if its float is undecided.
+
+    :param log10: its base-10 logarithm when formed more accurately elsewhere (for a value
+        near 1, from its complement); else taken from ``value``.
+    """
+    rounded = interval_float(value, error)
+    if rounded is None:
+        return None
+    if log10 is None:
+        log10 = log10_value(value)
+    return Magnitude(rounded, decimal_text(value, log10), log10, text_bound(error))
+
+
+def bounded_magnitude_of_log(value: Real, log_value: Real, error: Real) -> Magnitude | None:
+    """Report exp(log_value) = value, known to a relative ``error``, whatever its exponent.
+
+    log10 is ln(value) / ln 10 (one rounding of ln(value), one division), or at 64 bits
+    when ln(value) is past the float range; past about 10**24000 in size the decimal
+    text is formed from the logarithm.
+    """
+    rounded = interval_float(value, error)
+    if rounded is None:
+        return None
+    natural = mp.to_float(log_value)
     if math.isfinite(natural):
-        log10 = natural / _LN10
+        log10 = natural / _LN10 + 0.0
     else:
-        log10 = mp.to_float(mp.div(log_a, mp.ln10(64), 64))
-    _sign, _mantissa, exponent, bits = a
+        log10 = mp.to_float(mp.div(log_value, mp.ln10(64), 64))
+    _sign, _mantissa, exponent, bits = value
     if abs(exponent + bits) > 4 * _INTEGER_DECIMAL_LIMIT:
-        return Magnitude(mp.to_float(a), _decimal_text_from_log(log_a), log10)
-    return Magnitude(mp.to_float(a), decimal_text(a, log10), log10)
+        text = _decimal_text_from_log(log_value)
+    else:
+        text = decimal_text(value, log10)
+    return Magnitude(rounded, text, log10, text_bound(error))
+
+
+def log10_of_complement(complement: Real, prec: int = 80) -> float:
+    """log10(1 - c) for 0 <= c <= 1/2, from c, with full relative accuracy near c = 0.
+
+    >>> log10_of_complement(mp.ratio(1, 10**30, 80))
+    -4.342944819032518e-31
+    >>> math.copysign(1.0, log10_of_complement(mp.ZERO))
+    1.0
+    """
+    natural = mp.log1p_neg(complement, prec)
+    return mp.to_float(mp.div(natural, mp.ln10(prec), prec)) + 0.0
 
 
 def _decimal_text_from_log(log_a: Real) -> str:
@@ -165,13 +245,14 @@ def _decimal_text_from_log(log_a: Real) -> str:
 
     The mantissa is 10**f = exp(f ln 10), with f taken to 96 bits after the integer
     part e: the text is as accurate as log_a itself (absolute error d in log_a is a
-    relative error expm1(d) in the value) plus one rounding to 20 digits.
+    relative error expm1(d) in the value), plus some 2**-120 relative from the steps
+    below, plus one rounding to 20 digits.
     """
-    prec = mp.magnitude_bits(log_a) + 96
+    prec = mp.magnitude_bits(log_a) + 128
     tenth_power = mp.div(log_a, mp.ln10(prec), prec)
     whole = int(libmp.to_int(tenth_power, libmp.round_floor))
-    fraction = mp.sub(tenth_power, mp.real(whole, prec), 96)
-    mantissa = mp.exp(mp.mul(fraction, mp.ln10(96), 96), 96)
+    fraction = mp.sub(tenth_power, mp.real(whole, prec), 128)
+    mantissa = mp.exp(mp.mul(fraction, mp.ln10(128), 128), 128)
     digits = _rounded_digits(int(mantissa[1]), int(mantissa[2]), DECIMAL_DIGITS - 1)
     if digits >= _LOWEST_DIGITS * 10:  # 10**f rounded up to 10
         digits, whole = digits // 10, whole + 1
