@@ -42,7 +42,7 @@ from urnbound.core.exact import risk_at_most
 from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, MAX_SIZE_BITS
 from urnbound.core.pairwise import collision_risk
 from urnbound.core.regimes import choose_method, exact_cost_digits
-from urnbound.core.results import CapacityAnswer, LengthAnswer
+from urnbound.core.results import EXACT, CapacityAnswer, LengthAnswer
 from urnbound.core.search import RiskInterval, certified_boundary, hazard, log2_of_real
 
 #: Newton steps of the count guess (it converges in two or three; the bound is a guard).
@@ -219,7 +219,7 @@ class CountFamily:
         return _exact_is_cheap(self.size, index)
 
     def exact_allowed(self, index: int) -> bool:
-        return choose_method(self.size, index, self.exact_digit_limit) == "exact"
+        return choose_method(self.size, index, self.exact_digit_limit) == EXACT
 
     def exact_at_most(self, index: int, max_risk: Fraction) -> bool:
         return risk_at_most(self.size, index, max_risk)
@@ -263,7 +263,7 @@ class LengthFamily:
 
     def exact_allowed(self, index: int) -> bool:
         size = self.alphabet_size**index
-        return choose_method(size, self.count, self.exact_digit_limit) == "exact"
+        return choose_method(size, self.count, self.exact_digit_limit) == EXACT
 
     def exact_at_most(self, index: int, max_risk: Fraction) -> bool:
         return risk_at_most(self.alphabet_size**index, self.count, max_risk)

@@ -85,8 +85,12 @@ class RelatedFigures:
 class LengthAnswer:
     """Shortest identifier length over an alphabet that keeps the risk in budget.
 
-    :ivar length: the shortest length L with risk(count, m**L) <= max_risk.
-    :ivar at_length: the risk at ``length``.
+    Also the answer of ``inverse.fewest_bits``: the alphabet then has 2 symbols and
+    ``length`` is the number of random bits.
+
+    :ivar length: the shortest length L with risk(count, m**L) <= max_risk, proven:
+        ``at_length`` passes and ``one_shorter`` fails (core/search.py).
+    :ivar at_length: the risk at ``length``, as the forward question reports it.
     :ivar one_shorter: the risk at ``length - 1`` (``None`` when length is 1).
     """
 
@@ -102,9 +106,10 @@ class LengthAnswer:
 class CapacityAnswer:
     """Largest number of identifiers a space takes with the risk in budget.
 
-    :ivar count: the largest n with risk(n, size) <= max_risk.
-    :ivar at_count: the risk at ``count``.
-    :ivar one_more: the risk at ``count + 1``.
+    :ivar count: the largest n with risk(n, size) <= max_risk, proven: ``at_count``
+        passes and ``one_more`` fails (core/search.py).
+    :ivar at_count: the risk at ``count``, as the forward question reports it.
+    :ivar one_more: the risk at ``count + 1`` (exactly 1 when count is size).
     """
 
     size: int
