@@ -203,3 +203,20 @@ def test_core_and_domain_do_not_import_the_web_stack() -> None:
         [sys.executable, "-c", script], capture_output=True, text=True, check=True, timeout=120
     )
     assert result.stdout.strip() == "[]"
+
+
+def test_the_http_layer_imports_nothing_from_the_core() -> None:
+    # The domain layer owns the questions; views, schemas and problems reach the numerics
+    # only through it. Checked on the import statements of every module of urnbound.api.
+    import ast
+
+    offenders = []
+    for path in sorted((REPO_ROOT / "service" / "urnbound" / "api").glob("*.py")):
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+            names = []
+            if isinstance(node, ast.ImportFrom) and node.module:
+                names = [node.module]
+            elif isinstance(node, ast.Import):
+                names = [alias.name for alias in node.names]
+            offenders += [f"{path.name}: {n}" for n in names if n.startswith("urnbound.core")]
+    assert offenders == []
