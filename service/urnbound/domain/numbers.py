@@ -150,7 +150,7 @@ def _whole_from_text(text: str, minimum: int, maximum: int, scientific: bool, ru
         raise rule.error("text that is not a number")
     if number.exponent < 0:
         raise rule.error("a number with a fractional part")
-    if number.order > len(str(max(abs(minimum), abs(maximum)))):
+    if number.order > _digits_bound(max(abs(minimum), abs(maximum))):
         # Decided from digit count and exponent alone: no big integer is built.
         if number.negative:
             raise rule.error(f"a value below {bound_text(minimum)}")
@@ -158,6 +158,15 @@ def _whole_from_text(text: str, minimum: int, maximum: int, scientific: bool, ru
     scale: int = 10**number.exponent  # exponent >= 0 here, so this is an int
     magnitude = int(number.digits or "0") * scale
     return -magnitude if number.negative else magnitude
+
+
+def _digits_bound(value: int) -> int:
+    """An upper bound on the decimal digits of ``value``, from its bit length (no str()).
+
+    >>> _digits_bound(999), _digits_bound(2**8192) >= len(str(2**8192))
+    (4, True)
+    """
+    return value.bit_length() * 30103 // 100000 + 1
 
 
 def parse_count(
