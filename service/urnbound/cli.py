@@ -20,6 +20,7 @@ import click
 
 from urnbound.config import Settings
 from urnbound.domain.errors import DomainError, InvalidQuery, NoConvergence
+from urnbound.domain.inputs import parameters_of
 from urnbound.domain.parameters import Choice, Parameter
 from urnbound.domain.question import Context, Question, prose
 from urnbound.domain.registry import Registry, default_registry
@@ -59,7 +60,9 @@ def build_cli(registry: Registry | None = None) -> click.Group:
 
 def question_command(question: Question) -> click.Command:
     """A command that answers ``question`` from options named as its parameters."""
-    options: list[click.Parameter] = [_option(p) for p in _parameters(question)]
+    options: list[click.Parameter] = [
+        _option(p) for p in parameters_of((*question.inputs, *question.optional))
+    ]
     options.append(click.Option(["--json", "as_json"], is_flag=True,
                                 help="Print the API's JSON body instead of a table."))
 
@@ -76,14 +79,6 @@ def question_command(question: Question) -> click.Command:
         short_help=question.summary,
         epilog=_forms_epilog(question),
     )
-
-
-def _parameters(question: Question) -> list[Parameter]:
-    found: dict[str, Parameter] = {}
-    for entry in (*question.inputs, *question.optional):
-        for parameter in entry.parameters if isinstance(entry, Choice) else (entry,):
-            found.setdefault(parameter.name, parameter)
-    return list(found.values())
 
 
 def _option(parameter: Parameter) -> click.Option:

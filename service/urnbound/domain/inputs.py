@@ -71,13 +71,18 @@ def canonical(value: object) -> object:
 Entry = Parameter | Choice
 
 
-def accepted_names(entries: Sequence[Entry]) -> tuple[str, ...]:
-    """Every parameter name a question with these entries takes, in order."""
-    names: dict[str, None] = {}
+def parameters_of(entries: Sequence[Entry]) -> tuple[Parameter, ...]:
+    """Every parameter a question with these entries takes, each once, in order."""
+    found: dict[str, Parameter] = {}
     for entry in entries:
         for parameter in entry.parameters if isinstance(entry, Choice) else (entry,):
-            names.setdefault(parameter.name, None)
-    return tuple(names)
+            found.setdefault(parameter.name, parameter)
+    return tuple(found.values())
+
+
+def accepted_names(entries: Sequence[Entry]) -> tuple[str, ...]:
+    """Every parameter name a question with these entries takes, in order."""
+    return tuple(parameter.name for parameter in parameters_of(entries))
 
 
 def load_inputs(

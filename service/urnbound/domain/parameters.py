@@ -144,7 +144,7 @@ ALPHABET = Parameter(
 ALPHABET_SIZE = Parameter(
     "alphabet_size",
     lambda text: alphabets.alphabet_of_size(
-        numbers.parse_int_in_range(text, "alphabet_size", MIN_ALPHABET_SIZE, MAX_ALPHABET_SIZE)
+        _whole("alphabet_size", MIN_ALPHABET_SIZE, MAX_ALPHABET_SIZE)(text)
     ),
     numbers.whole_rule(MIN_ALPHABET_SIZE, MAX_ALPHABET_SIZE, scientific=False),
     "An alphabet given only by its number of symbols.",
