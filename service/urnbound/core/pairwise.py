@@ -5,7 +5,8 @@ with a relative error bound e lies in an interval of relative width e around the
 value; when both ends of that interval round to the same float, that float is the correct
 rounding. When they do not, the figure is computed again with twice the bits (at most
 ROUNDING_TRIES times), and an undecided risk falls back to exact arithmetic where that is
-affordable.
+affordable, and otherwise to the expansion at up to WIDEST_BITS bits. A precision the
+expansion cannot reach (NoConvergence) is treated as undecided, never as the end.
 """
 
 from __future__ import annotations
@@ -32,6 +33,8 @@ from urnbound.core.results import ASYMPTOTIC, EXACT, CollisionRisk, Magnitude, R
 
 #: Computations of one figure, doubling its bits each time, before its float is given up.
 ROUNDING_TRIES = 4
+#: Most bits of the last-resort expansion (a few ms at N = 2**8192), past the doublings.
+WIDEST_BITS = 8192
 #: Largest exact cost (digits of N**n) of the exact fallback for an undecided rounding.
 FALLBACK_EXACT_DIGITS = DEFAULT_EXACT_DIGIT_LIMIT
 #: First working precision of the expected-value figures.
@@ -99,12 +102,30 @@ def _asymptotic_answer(size: int, count: int, target_bits: int) -> CollisionRisk
         try:
             answer = _asymptotic_try(size, count, bits)
         except NoConvergence:
-            break  # the expansion cannot reach this precision for this question
+            answer = None  # this precision is out of the expansion's reach; try the next
         if answer is not None:
             return answer
         bits *= 2
     if exact_cost_digits(size, count) <= FALLBACK_EXACT_DIGITS:
         return _exact_answer(size, count)
+    return _widened_answer(size, count, bits)
+
+
+def _widened_answer(size: int, count: int, bits: int) -> CollisionRisk:
+    """Last resort, the expansion at ever more bits (up to WIDEST_BITS) until both are decided.
+
+    Reached only when ROUNDING_TRIES doublings left a float undecided and exact arithmetic
+    is too costly: a true value within 2**-500 of a rounding boundary, or an expansion
+    that failed at one precision. Each step costs more, but WIDEST_BITS bounds the cost.
+    """
+    while bits <= WIDEST_BITS:
+        try:
+            answer = _asymptotic_try(size, count, bits)
+        except NoConvergence:
+            answer = None
+        if answer is not None:
+            return answer
+        bits *= 2
     raise NoConvergence("the risk lies too close to a rounding boundary to round with certainty")
 
 
