@@ -97,36 +97,25 @@ def _exact_answer(size: int, count: int) -> CollisionRisk:
 
 def _asymptotic_answer(size: int, count: int, target_bits: int) -> CollisionRisk:
     """The expansion at target_bits, then at twice as many until both floats are decided."""
-    bits = target_bits
-    for _ in range(ROUNDING_TRIES):
-        try:
-            answer = _asymptotic_try(size, count, bits)
-        except NoConvergence:
-            answer = None  # this precision is out of the expansion's reach; try the next
-        if answer is not None:
-            return answer
-        bits *= 2
-    if exact_cost_digits(size, count) <= FALLBACK_EXACT_DIGITS:
-        return _exact_answer(size, count)
-    return _widened_answer(size, count, bits)
+    def attempt(bits: int) -> CollisionRisk | None:
+        return _asymptotic_try(size, count, bits)
+
+    answer = mp.first_decided(attempt, target_bits, _last_try_bits(target_bits))
+    if answer is None and exact_cost_digits(size, count) <= FALLBACK_EXACT_DIGITS:
+        answer = _exact_answer(size, count)
+    if answer is None:
+        # Last resort, reached only for a value within some 2**-500 of a rounding
+        # boundary or an expansion failing at one precision: WIDEST_BITS bounds the cost.
+        answer = mp.first_decided(attempt, 2 * _last_try_bits(target_bits), WIDEST_BITS)
+    if answer is None:
+        raise NoConvergence("the risk lies too close to a rounding boundary to round with "
+                            "certainty")
+    return answer
 
 
-def _widened_answer(size: int, count: int, bits: int) -> CollisionRisk:
-    """Last resort, the expansion at ever more bits (up to WIDEST_BITS) until both are decided.
-
-    Reached only when ROUNDING_TRIES doublings left a float undecided and exact arithmetic
-    is too costly: a true value within 2**-500 of a rounding boundary, or an expansion
-    that failed at one precision. Each step costs more, but WIDEST_BITS bounds the cost.
-    """
-    while bits <= WIDEST_BITS:
-        try:
-            answer = _asymptotic_try(size, count, bits)
-        except NoConvergence:
-            answer = None
-        if answer is not None:
-            return answer
-        bits *= 2
-    raise NoConvergence("the risk lies too close to a rounding boundary to round with certainty")
+def _last_try_bits(first_bits: int) -> int:
+    """The precision of the last of ROUNDING_TRIES doublings from ``first_bits``."""
+    return first_bits << (ROUNDING_TRIES - 1)
 
 
 def _asymptotic_try(size: int, count: int, bits: int) -> CollisionRisk | None:
@@ -192,15 +181,16 @@ def _reciprocal_risk(size: int, count: int, risk: CollisionRisk) -> Magnitude | 
     from_text = _reciprocal_of_text(risk.collision)
     if from_text is not None:
         return from_text
-    bits = 128
-    for _ in range(ROUNDING_TRIES):
+
+    def attempt(bits: int) -> Magnitude | None:
         estimate = risk_estimate(size, count, bits)
-        found = _reciprocal_of_real(estimate.collision, estimate.collision_error,
-                                    risk.collision.log10)
-        if found is not None:
-            return found
-        bits *= 2
-    raise NoConvergence("the reciprocal risk lies too close to a rounding boundary")
+        return _reciprocal_of_real(estimate.collision, estimate.collision_error,
+                                   risk.collision.log10)
+
+    found = mp.first_decided(attempt, FIGURES_PREC, WIDEST_BITS)
+    if found is None:
+        raise NoConvergence("the reciprocal risk lies too close to a rounding boundary")
+    return found
 
 
 def _reciprocal_of_text(probability: Magnitude) -> Magnitude | None:
@@ -250,8 +240,8 @@ def _expected_distinct_and_duplicates(size: int, count: int) -> tuple[Magnitude,
     """
     if count <= 1 or size == 1 or exact_cost_digits(size, count) <= EXACT_FIGURES_DIGITS:
         return _exact_figures(size, count)
-    prec = FIGURES_PREC
-    for _ in range(ROUNDING_TRIES):
+
+    def attempt(prec: int) -> tuple[Magnitude, Magnitude] | None:
         if _ratio_gap(size, count) >= MIN_SERIES_GAP:
             values = _figures_by_series(size, count, prec)
         else:
@@ -259,12 +249,16 @@ def _expected_distinct_and_duplicates(size: int, count: int) -> tuple[Magnitude,
         (distinct, distinct_error), (duplicates, duplicates_error) = values
         first = reporting.bounded_magnitude(distinct, distinct_error)
         second = reporting.bounded_magnitude(duplicates, duplicates_error)
-        if first is not None and second is not None:
-            return first, second
-        prec *= 2
-    if exact_cost_digits(size, count) <= FALLBACK_EXACT_DIGITS:
+        return None if first is None or second is None else (first, second)
+
+    found = mp.first_decided(attempt, FIGURES_PREC, _last_try_bits(FIGURES_PREC))
+    if found is None and exact_cost_digits(size, count) <= FALLBACK_EXACT_DIGITS:
         return _exact_figures(size, count)
-    raise NoConvergence("an expected count lies too close to a rounding boundary")
+    if found is None:
+        found = mp.first_decided(attempt, 2 * _last_try_bits(FIGURES_PREC), WIDEST_BITS)
+    if found is None:
+        raise NoConvergence("an expected count lies too close to a rounding boundary")
+    return found
 
 
 #: Largest exact cost (digits of N**n) at which the expected figures are formed exactly.

@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from fractions import Fraction
-from typing import Any
+from typing import Any, TypeVar
 
 from mpmath import libmp
 
@@ -21,6 +21,8 @@ Real = Any  # an mpmath libmp float tuple (sign, mantissa, exponent, bitcount)
 ZERO: Real = libmp.fzero
 ONE: Real = libmp.fone
 NEAREST = libmp.round_nearest
+
+T = TypeVar("T")
 
 
 def real(value: int | Fraction, prec: int) -> Real:
@@ -239,3 +241,26 @@ def expm1(y: Real, prec: int) -> Real:
 def add_up(a: Real, b: Real, prec: int = 53) -> Real:
     """a + b rounded upwards: for accumulating error bounds."""
     return libmp.mpf_add(a, b, prec, libmp.round_up)
+
+
+def first_decided(evaluate: Callable[[int], T | None], first_bits: int,
+                  last_bits: int) -> T | None:
+    """The first answer ``evaluate(bits)`` gives for bits = first, 2 first, ... <= last.
+
+    ``evaluate`` returns ``None`` when its float is undecided at that precision, or raises
+    NoConvergence when the method cannot reach it; both lead to the next precision. ``None``
+    when no precision up to ``last_bits`` decided (the caller then tries another method).
+
+    >>> first_decided(lambda bits: bits if bits >= 100 else None, 64, 512)
+    128
+    """
+    bits = first_bits
+    while bits <= last_bits:
+        try:
+            answer = evaluate(bits)
+        except NoConvergence:
+            answer = None
+        if answer is not None:
+            return answer
+        bits *= 2
+    return None
