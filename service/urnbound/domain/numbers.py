@@ -14,6 +14,7 @@ bounds cost (text length, exponent size) runs before any big integer is built, s
 
 from __future__ import annotations
 
+import functools
 import re
 from dataclasses import dataclass
 from fractions import Fraction
@@ -66,8 +67,13 @@ def _split_decimal(text: str) -> _Decimal | None:
     return _Decimal(match["sign"] == "-", stripped, exponent if stripped else 0)
 
 
+@functools.lru_cache(maxsize=64)
 def bound_text(value: int) -> str:
-    """Write a range bound compactly: 10^60, 2^8192, or plain digits."""
+    """Write a range bound compactly: 10^60, 2^8192, or plain digits.
+
+    Cached: the bounds are a handful of constants, and str() of 2^8192 costs some 20 µs,
+    which every parse of a count would otherwise pay to state its rule.
+    """
     if value >= 10**7:
         text = str(value)
         if text.strip("0") == "1":
@@ -77,6 +83,7 @@ def bound_text(value: int) -> str:
     return str(value)
 
 
+@functools.lru_cache(maxsize=64)
 def whole_rule(minimum: int, maximum: int, scientific: bool) -> str:
     """The allowed form and range of a whole-number parameter, as a phrase.
 
