@@ -48,7 +48,8 @@ def _mpmath_risk(size: int, count: int) -> mpmath.mpf:
 
 def test_registry_holds_the_five_questions_in_path_order() -> None:
     assert [q.path for q in REGISTRY] == [
-        "/v1/alphabets", "/v1/bits", "/v1/capacity", "/v1/collisions", "/v1/lengths",
+        "/v1/alphabets", "/v1/bits", "/v1/capacity", "/v1/collisions", "/v1/formats",
+        "/v1/guessing", "/v1/lengths", "/v1/prefixes",
     ]
     for question in REGISTRY:
         assert question.description.strip(), question.name
@@ -60,7 +61,10 @@ def test_assumption_states_the_premise_and_defers_to_policy() -> None:
     assert "uniformly at random" in ASSUMPTION
     assert "cryptographically secure" in ASSUMPTION
     assert "security policy" in ASSUMPTION and "standards" in ASSUMPTION
-    assert all(q.premise == ASSUMPTION for q in REGISTRY if q.name != "alphabets")
+    # Listings have no premise; guessing carries its own caution, prefixes its own premise
+    # (tests/domain/test_security_questions.py).
+    own = ("alphabets", "formats", "guessing", "prefixes")
+    assert all(q.premise == ASSUMPTION for q in REGISTRY if q.name not in own)
 
 
 def test_answer_members_come_in_declared_order() -> None:

@@ -16,7 +16,7 @@ from typing import Any
 
 from marshmallow import Schema, fields
 
-from urnbound.domain.question import AnswerField, Question
+from urnbound.domain.question import RECORD_KINDS, AnswerField, Question
 
 
 class WholeText(fields.String):
@@ -175,7 +175,20 @@ KIND_FIELDS: Mapping[str, Callable[[AnswerField], fields.Field[Any]]] = MappingP
     "space": _nested(SpaceSchema),
     "fraction": _nested(ExactFractionSchema),
     "alphabets": _alphabet_list,
+    "boolean": _plain(fields.Boolean),
 })
+
+
+def _member_field(member: AnswerField, owner: str) -> fields.Field[Any]:
+    """The field of one member; a record's schema is named ``<owner><Member>``."""
+    if member.kind not in RECORD_KINDS:
+        return KIND_FIELDS[member.kind](member)
+    name = owner + "".join(part.capitalize() for part in member.name.split("_"))
+    record = Schema.from_dict({m.name: _member_field(m, name) for m in member.members},
+                              name=name)
+    if member.kind == "records":
+        return fields.List(fields.Nested(record), **_common(member))
+    return fields.Nested(record, **_common(member))
 
 
 def component_name(question: Question) -> str:
@@ -185,8 +198,9 @@ def component_name(question: Question) -> str:
 
 def answer_schema(question: Question) -> type[Schema]:
     """The schema of ``question``'s answer, members in declared order."""
+    owner = component_name(question)
     members: dict[str, fields.Field[Any]] = {
-        member.name: KIND_FIELDS[member.kind](member) for member in question.answer
+        member.name: _member_field(member, owner) for member in question.answer
     }
     if question.premise is not None:
         members["assumptions"] = fields.String(

@@ -34,3 +34,13 @@ MAX_BIG_TEXT_CHARS = 2_600
 DEFAULT_EXACT_DIGIT_LIMIT = 50_000
 #: Numerator and denominator of a returned exact fraction have at most this many digits.
 MAX_FRACTION_DIGITS = 1_000
+#: Shortest and longest ISO 8601 duration accepted (a window, a duration, a tick), in seconds.
+MIN_DURATION_SECONDS = Fraction(1, 10**9)
+MAX_DURATION_SECONDS = 10**12
+#: Most digits after the decimal point of a duration's seconds (nanoseconds).
+MAX_DURATION_FRACTION_DIGITS = 9
+#: Most digits of one number in a duration (bounds the cost of parsing it).
+MAX_DURATION_NUMBER_DIGITS = 15
+#: Lowest and highest rate accepted (guesses or identifiers per second).
+MIN_RATE = Fraction(1, 10**9)
+MAX_RATE = 10**30

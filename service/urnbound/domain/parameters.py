@@ -29,7 +29,7 @@ from urnbound.core.limits import (
     MIN_LENGTH,
     MIN_SPACE_SIZE,
 )
-from urnbound.domain import alphabets, numbers, spaces
+from urnbound.domain import alphabets, formats, numbers, spaces
 
 #: Pattern of the decimal text that counts, sizes and risk targets are written in.
 NUMBER_PATTERN = r"^\s*[+-]?([0-9]+(\.[0-9]*)?|\.[0-9]+)([eE][+-]?[0-9]+)?\s*$"
@@ -199,16 +199,28 @@ MAX_RISK = Parameter(
     {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": MAX_TEXT_CHARS},
 )
 
-#: An identifier space, in exactly one of five forms.
+FORMAT = Parameter(
+    "format",
+    formats.named_format,
+    "one of " + ", ".join(formats.NAMED_FORMATS) + " (any case)",
+    "A named identifier format (see GET /v1/formats): its random bits are the space; for "
+    "a time-ordered format, those of one tick.",
+    "uuid-v4",
+    {"type": "string", "enum": list(formats.NAMED_FORMATS), "maxLength": MAX_TEXT_CHARS},
+)
+
+#: An identifier space, in exactly one of six forms.
 SPACE = Choice(
     "space",
-    "The identifier space: bits; alphabet, alphabet_size or symbols with length; or size.",
+    "The identifier space: bits; alphabet, alphabet_size or symbols with length; size; "
+    "or format.",
     (
         Form(BITS, (), spaces.space_from_bits),
         Form(ALPHABET, (LENGTH,), spaces.space_from_alphabet),
         Form(ALPHABET_SIZE, (LENGTH,), spaces.space_from_alphabet),
         Form(SYMBOLS, (LENGTH,), spaces.space_from_alphabet),
         Form(SIZE, (), spaces.space_from_size),
+        Form(FORMAT, (), formats.space_of_format),
     ),
 )
 
@@ -225,5 +237,6 @@ ALPHABET_CHOICE = Choice(
 
 #: Every parameter defined here, by name.
 PARAMETERS: Mapping[str, Parameter] = MappingProxyType(
-    {p.name: p for p in (BITS, ALPHABET, ALPHABET_SIZE, SYMBOLS, LENGTH, SIZE, COUNT, MAX_RISK)}
+    {p.name: p for p in (BITS, ALPHABET, ALPHABET_SIZE, SYMBOLS, LENGTH, SIZE, COUNT, MAX_RISK,
+                         FORMAT)}
 )

@@ -27,11 +27,14 @@ ASSUMPTION: Final = (
 #: probability / magnitude: {value, decimal, log10, relative_error_bound};
 #: whole: a whole number of any size as decimal text; integer; number (a float);
 #: text; space: the identifier space; fraction: {numerator, denominator};
-#: alphabets: a list of {name, size, symbols, source}.
+#: alphabets: a list of {name, size, symbols, source}; boolean; object: a record of the
+#: field's ``members``; records: a list of such records.
 KINDS: Final = (
     "probability", "magnitude", "whole", "integer", "number", "text", "space", "fraction",
-    "alphabets",
+    "alphabets", "boolean", "object", "records",
 )
+#: The kinds whose shape is given by the field's ``members``.
+RECORD_KINDS: Final = ("object", "records")
 
 
 @dataclass(frozen=True, slots=True)
@@ -41,6 +44,7 @@ class AnswerField:
     :ivar kind: one of :data:`KINDS`.
     :ivar nullable: the member may be ``null``.
     :ivar enum: the values a text member takes, when it is one of a few.
+    :ivar members: the members of an ``object`` or of each of ``records``, in order.
     """
 
     name: str
@@ -48,10 +52,13 @@ class AnswerField:
     description: str
     nullable: bool = False
     enum: tuple[str, ...] = ()
+    members: tuple[AnswerField, ...] = ()
 
     def __post_init__(self) -> None:
         if self.kind not in KINDS:
             raise ValueError(f"answer field {self.name}: unknown kind {self.kind!r}")
+        if (self.kind in RECORD_KINDS) != bool(self.members):
+            raise ValueError(f"answer field {self.name}: members go with {RECORD_KINDS} only")
 
 
 @dataclass(frozen=True, slots=True)

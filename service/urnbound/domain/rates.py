@@ -1,0 +1,65 @@
+"""Parse rates per second (``1e4``, ``0.5``, ``2.5e3``) exactly, at bounded cost.
+
+Accepted, after leading and trailing ASCII whitespace is dropped: unsigned decimal or
+scientific notation (``1e4``, ``12.5``, ``.5``) from 1e-9 to 1e30 per second. The
+exponent and the text length are checked before any number is built.
+"""
+
+from __future__ import annotations
+
+import re
+from fractions import Fraction
+
+from urnbound.core.errors import DomainError
+from urnbound.core.limits import MAX_RATE, MAX_TEXT_CHARS, MIN_RATE
+
+_WHITESPACE = " \t\r\n\f\v"
+_RATE = re.compile(r"\+?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE](?P<exp>[+-]?[0-9]{1,4}))?",
+                   re.ASCII)
+
+
+def _exponent_text(value: Fraction | int) -> str:
+    """1e30 for 10**30, 1e-9 for 1/10**9."""
+    if isinstance(value, Fraction) and value.numerator == 1:
+        return f"1e-{len(str(value.denominator)) - 1}"
+    return f"1e{len(str(value)) - 1}"
+
+
+def rate_rule() -> str:
+    """The allowed form and range of a rate, as a phrase."""
+    return (f"a decimal number of events per second from {_exponent_text(MIN_RATE)} to "
+            f"{_exponent_text(MAX_RATE)}, written as digits or in scientific notation such "
+            "as 1e4")
+
+
+def parse_rate(text: str, *, field: str) -> Fraction:
+    """The rate written in ``text``, per second, exactly.
+
+    :raises DomainError: (field ``field``) for malformed text or a rate outside
+        [1e-9, 1e30]; the detail states the form and the range.
+
+    >>> parse_rate("1e4", field="guess_rate"), parse_rate(" 0.25 ", field="rate")
+    (Fraction(10000, 1), Fraction(1, 4))
+    """
+
+    def refuse(reason: str) -> DomainError:
+        return DomainError(f"{field} must be {rate_rule()} (got {reason})", field=field)
+
+    if not isinstance(text, str):
+        raise refuse(f"a value of type {type(text).__name__}")
+    if len(text) > MAX_TEXT_CHARS:
+        raise refuse(f"more than {MAX_TEXT_CHARS} characters")
+    stripped = text.strip(_WHITESPACE)
+    if not stripped:
+        raise refuse("an empty value")
+    if stripped.startswith("-"):
+        raise refuse("a negative value")
+    match = _RATE.fullmatch(stripped)
+    if match is None:
+        raise refuse("text that is not a decimal number")
+    value = Fraction(stripped.lstrip("+"))
+    if value < MIN_RATE:
+        raise refuse(f"a value below {_exponent_text(MIN_RATE)}")
+    if value > MAX_RATE:
+        raise refuse(f"a value above {_exponent_text(MAX_RATE)}")
+    return value
