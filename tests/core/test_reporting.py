@@ -59,3 +59,57 @@ def test_tiny_values_keep_text_and_log10_when_the_float_underflows() -> None:
     # log10(3) - 5000 log10(2), from the standard library's own logarithms
     assert math.isclose(report.log10, math.log10(3) - 5000 * math.log10(2), rel_tol=1e-14)
     assert Fraction(report.decimal.replace("e", "E")) > 0
+
+
+# --- the float of a value known to a relative error ----------------------------------------
+
+
+def _interval_floats(mantissa: int, exponent: int, error: Fraction) -> tuple[float, float]:
+    """Floats of both ends of [v/(1+e), v/(1-e)] by Python's exact rational rounding."""
+    value = Fraction(mantissa) * Fraction(2) ** exponent
+
+    def rounded(x: Fraction) -> float:
+        try:
+            return float(x)  # correctly rounded, half to even (the standard library)
+        except OverflowError:
+            return math.inf
+
+    return rounded(value / (1 + error)), rounded(value / (1 - error))
+
+
+near_floats = st.one_of(
+    # values a few units from a float midpoint, and values anywhere
+    st.tuples(st.integers(2**52, 2**53 - 1), st.integers(-1100, 1000), st.integers(-4, 4)).map(
+        lambda t: ((2 * t[0] + 1) * 2**40 + t[2], t[1] - 41)),
+    st.tuples(st.integers(1, 2**100), st.integers(-1200, 1000)),
+)
+
+
+@settings(max_examples=500, deadline=None)
+@given(near_floats, st.integers(40, 130), st.integers(1, 2**20))
+@example((2**53, -53), 60, 1)  # 1.0 exactly, a power of two
+@example(((2**53 - 1) * 2 + 1, -54), 100, 1)  # a midpoint: never decided
+@example((1, -1074), 80, 1)  # the smallest subnormal
+def test_interval_float_is_the_float_of_every_value_in_the_interval(
+    value: tuple[int, int], error_bits: int, error_mantissa: int
+) -> None:
+    # reference: Python's Fraction -> float conversion, correctly rounded (half to even);
+    # a float is returned only when both ends of the error interval round to it
+    mantissa, exponent = value
+    error = Fraction(error_mantissa, 2**error_bits)
+    real, bound = libmp.from_man_exp(mantissa, exponent), libmp.from_man_exp(error_mantissa,
+                                                                             -error_bits)
+    low, high = _interval_floats(mantissa, exponent, error)
+    for got in (reporting.interval_float(real, bound),
+                reporting._float_far_from_boundary(real, bound)):  # the fast test alone too
+        if got is not None:
+            assert got == low == high, (got, low, high)
+
+
+def test_the_fast_test_decides_values_far_from_a_boundary() -> None:
+    # 1/3 to 2**-80 is some 2**-27 steps from the nearest midpoint: decided without the
+    # interval division
+    third = libmp.from_rational(1, 3, 120, libmp.round_nearest)
+    assert reporting._float_far_from_boundary(third, libmp.from_man_exp(1, -80)) == 1 / 3
+    one = libmp.from_man_exp(1, 0)
+    assert reporting._float_far_from_boundary(one, libmp.from_man_exp(1, -80)) == 1.0
