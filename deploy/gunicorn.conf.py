@@ -6,8 +6,13 @@
 # Environment (all optional):
 #   URNBOUND_HOST              bind address, default 127.0.0.1 (the container image sets 0.0.0.0)
 #   URNBOUND_PORT              TCP port, 1..65535, default 8080
-#   URNBOUND_WORKERS           sync worker processes, 1..64; 0 or unset: 2 x usable CPUs + 1
-#   URNBOUND_WORKER_TIMEOUT    seconds a silent worker may run before it is killed, default 30
+#   URNBOUND_WORKERS           worker processes, 1..64; 0 or unset: 2 x usable CPUs + 1
+#   URNBOUND_THREADS           threads per worker, 1..256, default 32 (gthread worker)
+#   URNBOUND_CLIENT_TIMEOUT    seconds one request may take from its first byte to its answer,
+#                              default 10 (urnbound.gunicorn_worker)
+#   URNBOUND_KEEPALIVE         seconds an idle connection is kept open, default 5
+#   URNBOUND_WORKER_TIMEOUT    seconds a worker's event loop may stall before the worker is
+#                              killed, default 30
 #   URNBOUND_GRACEFUL_TIMEOUT  seconds workers get to finish on shutdown, default 20
 #   URNBOUND_MAX_REQUESTS      requests before a worker is recycled, 0 = never, default 10000
 #   URNBOUND_LOG_LEVEL         gunicorn's own log level, default info
@@ -21,6 +26,7 @@ from __future__ import annotations
 import os
 from typing import Any
 
+from urnbound.metrics_files import WorkerExits, fold_dead_worker
 from urnbound.serving import claim_private_metrics_dir
 
 _LOG_LEVELS = ("debug", "info", "warning", "error", "critical")
@@ -68,14 +74,24 @@ _port = _env_int("URNBOUND_PORT", 8080, 1, 65535)
 
 # An IPv6 address such as ``::`` needs brackets before the port.
 bind = [f"[{_host}]:{_port}" if ":" in _host and not _host.startswith("[") else f"{_host}:{_port}"]
-# The work is CPU-bound with a bounded cost per request, so plain sync workers suffice; the
-# default is gunicorn's documented starting point of 2 x cores + 1.
-worker_class = "sync"
-# URNBOUND_WORKERS=0 asks for the default, as in urnbound.config.Settings.
+# Threaded workers (gunicorn's gthread, with a deadline per request and problem+json errors,
+# urnbound.gunicorn_worker): idle and kept-alive connections wait in one event loop per worker
+# and take a thread only once they send data, and a client that sends slowly holds one thread
+# for at most URNBOUND_CLIENT_TIMEOUT seconds. With sync workers a single slow client held a
+# whole worker. The work itself is CPU-bound and bounded per request, so threads share a core
+# without gain; they are there for clients that are slow, not for computing in parallel.
+worker_class = "urnbound.gunicorn_worker.GuardedThreadWorker"
+# URNBOUND_WORKERS=0 asks for the default, as in urnbound.config.Settings: gunicorn's
+# documented starting point of 2 x cores + 1.
 workers = _env_int("URNBOUND_WORKERS", 0, 0, 64) or 2 * _usable_cpus() + 1
+threads = _env_int("URNBOUND_THREADS", 32, 1, 256)
+# Connections per worker, idle ones included; past it a worker stops accepting.
+worker_connections = 1000
 timeout = _env_int("URNBOUND_WORKER_TIMEOUT", 30, 1, 600)
 graceful_timeout = _env_int("URNBOUND_GRACEFUL_TIMEOUT", 20, 1, 600)
-keepalive = 2
+# Longer than the proxy's upstream keep-alive (4 s in deploy/nginx.conf.in), so that nginx,
+# not gunicorn, closes an idle connection and never sends on one gunicorn has just closed.
+keepalive = _env_int("URNBOUND_KEEPALIVE", 5, 1, 300)
 # Recycling workers now and then bounds the memory a long-lived worker can accumulate.
 max_requests = _env_int("URNBOUND_MAX_REQUESTS", 10_000, 0, 10_000_000)
 max_requests_jitter = max_requests // 10
@@ -98,12 +114,20 @@ proc_name = "urnbound"
 _private_metrics_dir = claim_private_metrics_dir()
 
 
-def child_exit(server: Any, worker: Any) -> None:
-    """Tell the Prometheus client a worker has gone, so its live gauges are dropped."""
-    if os.environ.get("PROMETHEUS_MULTIPROC_DIR"):
-        from prometheus_client import multiprocess
+_worker_exits = WorkerExits()
 
-        multiprocess.mark_process_dead(worker.pid)
+
+def child_exit(server: Any, worker: Any) -> None:
+    """Count the exit and fold the worker's sample files, so the directory stays bounded."""
+    directory = os.environ.get("PROMETHEUS_MULTIPROC_DIR")
+    if not directory:
+        return
+    # The master killed a worker that stopped answering (gunicorn's "WORKER TIMEOUT").
+    _worker_exits.count("timeout" if getattr(worker, "aborted", False) else "exited")
+    try:
+        fold_dead_worker(directory, worker.pid)
+    except OSError as error:
+        server.log.warning("metrics: could not fold the files of worker %s: %s", worker.pid, error)
 
 
 def on_exit(server: Any) -> None:

@@ -18,6 +18,8 @@ from prometheus_client import (
 )
 from prometheus_client.multiprocess import MultiProcessCollector
 
+from urnbound.metrics_files import directory_lock
+
 #: Environment variable that switches the Prometheus client to multiprocess mode.
 MULTIPROC_ENV = "PROMETHEUS_MULTIPROC_DIR"
 #: Latency buckets in seconds: answers range from microseconds (cached) to a second.
@@ -43,7 +45,11 @@ class Metrics:
 
     def exposition(self) -> bytes:
         """The current samples in the Prometheus text format."""
-        return generate_latest(self.scrape_registry())
+        if self.multiprocess_dir is None:
+            return generate_latest(self.registry)
+        # Shared with other scrapes, exclusive of the master folding a dead worker's files.
+        with directory_lock(self.multiprocess_dir, exclusive=False):
+            return generate_latest(self.scrape_registry())
 
     def scrape_registry(self) -> CollectorRegistry:
         """The registry to read: a fresh multiprocess one per scrape under gunicorn."""
