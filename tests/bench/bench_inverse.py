@@ -19,12 +19,12 @@ from __future__ import annotations
 
 import statistics
 import sys
-import time
 from collections.abc import Callable
 from decimal import Decimal
 from fractions import Fraction
 
 import mpmath
+from timing import median_seconds
 
 from urnbound.core.inverse import (
     CountFamily,
@@ -38,17 +38,6 @@ from urnbound.core.search import Boundary, certified_boundary
 
 INVERSE_TARGET_US = 2000.0
 REPEATS = 21
-
-
-def median_seconds(action: Callable[[], object], repeats: int = REPEATS) -> float:
-    """Median CPU seconds of ``action`` over ``repeats`` runs (after one warm-up)."""
-    action()
-    samples = []
-    for _ in range(repeats):
-        start = time.process_time()
-        action()
-        samples.append(time.process_time() - start)
-    return statistics.median(samples)
 
 
 def nines(digits: int) -> Fraction:
@@ -135,8 +124,8 @@ def table(title: str, cases: list[Case]) -> list[float]:
         boundary = search()
         assert boundary is not None
         cost = boundary.cost
-        search_us = median_seconds(search) * 1e6
-        answer_us = median_seconds(answer_of(case)) * 1e6
+        search_us = median_seconds(search, REPEATS) * 1e6
+        answer_us = median_seconds(answer_of(case), REPEATS) * 1e6
         medians.append(answer_us)
         print(f"| {case[0]} | {cost.comparisons} | {cost.intervals} | {cost.exact} | "
               f"{search_us:.0f} | {answer_us:.0f} | {INVERSE_TARGET_US:.0f} | "
