@@ -1,0 +1,58 @@
+"""The security-review questions on the command line: tables, and exit 2 naming the field."""
+
+from __future__ import annotations
+
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+REPO_ROOT = Path(__file__).resolve().parents[1]
+
+
+def run(*arguments: str) -> subprocess.CompletedProcess[str]:
+    """``urnbound ARGUMENTS`` in a fresh interpreter."""
+    env = {**os.environ, "PYTHONPATH": os.pathsep.join(p for p in sys.path if p)}
+    return subprocess.run(
+        [sys.executable, "-c", "from urnbound.cli import main; main()", *arguments],
+        capture_output=True, text=True, env=env, timeout=120, cwd=REPO_ROOT,
+    )
+
+
+@pytest.mark.parametrize(("arguments", "named"), [
+    (["prefixes", "--digest-bits", "40", "--prefix-chars", "12", "--count", "5"],
+     ["--digest-bits", "--prefix-chars"]),
+    (["guessing", "--bits", "64", "--live", "5", "--guesses", "5", "--guess-rate", "1",
+      "--window", "P1D"], ["--guess-rate", "--guesses"]),
+    (["guessing", "--bits", "64", "--live", "5", "--guess-rate", "10"], ["--window"]),
+    (["guessing", "--bits", "64", "--live", "5", "--guess-rate", "10", "--window", "-PT5S"],
+     ["--window"]),
+    (["guessing", "--format", "uuid-v1", "--live", "5", "--guesses", "1"], ["--format"]),
+    (["collisions", "--format", "nope", "--count", "5"], ["--format"]),
+])
+def test_bad_input_exits_2_naming_every_field(arguments: list[str], named: list[str]) -> None:
+    done = run(*arguments)
+    assert done.returncode == 2, done.stdout
+    assert done.stdout == ""
+    line = done.stderr.strip()
+    assert line.startswith(f"urnbound {arguments[0]}: error: {named[0]}: ")
+    for option in named:
+        assert f"{option}: " in line
+
+
+def test_guessing_table_shows_the_policy_and_the_caution() -> None:
+    done = run("guessing", "--bits", "64", "--live", "1e5", "--guess-rate", "1e4", "--window",
+               "P365D")
+    assert done.returncode == 0, done.stderr
+    assert "policy.entropy_meets_minimum  yes" in done.stdout
+    assert "expected_years_independent" in done.stdout and "5.845" in done.stdout
+    assert "caution" in done.stdout
+
+
+def test_formats_table_is_a_grid() -> None:
+    done = run("formats")
+    assert done.returncode == 0
+    assert done.stdout.splitlines()[0] == "formats:"
+    assert any(line.split()[:2] == ["uuid-v7", "74"] for line in done.stdout.splitlines())
