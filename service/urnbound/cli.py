@@ -112,7 +112,7 @@ def _forms_epilog(question: Question) -> str:
 
 
 def _answer_text(question: Question, raw: Mapping[str, Sequence[str]], as_json: bool) -> str:
-    from urnbound.api.rendering import renderer_for  # marshmallow only when answering
+    from urnbound.api.rendering import renderer_for  # the answer path, only when answering
 
     try:
         inputs = question.load(raw)

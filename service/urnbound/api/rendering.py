@@ -8,13 +8,12 @@ API sends for the same question: both call :meth:`Renderer.render` on inputs tha
 from __future__ import annotations
 
 import json
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from types import MappingProxyType
+from typing import Any
 
-from marshmallow import Schema
-
-from urnbound.api.schemas import answer_schema
+from urnbound.api.dumping import answer_dumper
 from urnbound.domain.inputs import Inputs
 from urnbound.domain.question import Context, Question
 from urnbound.domain.registry import Registry
@@ -35,17 +34,17 @@ def json_body(document: Mapping[str, object]) -> bytes:
 
 @dataclass(frozen=True, slots=True)
 class Renderer:
-    """One answer-schema instance per registered question (building one is costly)."""
+    """One answer dumper per registered question (``dumping.py``), built once."""
 
-    schemas: Mapping[str, Schema]
+    dumpers: Mapping[str, Callable[[Mapping[str, Any]], dict[str, Any]]]
 
     def render(self, question: Question, inputs: Inputs, context: Context) -> CachedAnswer:
         """The answer to ``question`` for ``inputs``, serialized."""
         answer = question.answer_to(inputs, context)
-        document = self.schemas[question.name].dump(answer.values)
+        document = self.dumpers[question.name](answer.values)
         return CachedAnswer(json_body(document), answer.method)
 
 
 def renderer_for(registry: Registry) -> Renderer:
     """A renderer for every question of ``registry``."""
-    return Renderer(MappingProxyType({q.name: answer_schema(q)() for q in registry}))
+    return Renderer(MappingProxyType({q.name: answer_dumper(q) for q in registry}))
