@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import json
+import os
+import signal
 import socket
 import tempfile
 import time
@@ -10,12 +12,15 @@ from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
+from prometheus_client.parser import text_string_to_metric_families
 
 from e2e.stack import HOST, Server, Stack
 from urnbound.gunicorn_worker import StatusCapture, client_timeout, problem_response
 
 #: Seconds one request may take on the instance these tests start.
 CLIENT_TIMEOUT_S = 2
+#: Seconds a worker's event loop may stall before the master replaces it.
+WORKER_TIMEOUT_S = 2
 
 
 @pytest.fixture(scope="module")
@@ -23,7 +28,12 @@ def instance() -> Iterator[Server]:
     stack = Stack(Path(tempfile.mkdtemp(prefix="urnbound-worker-")))
     try:
         yield stack.gunicorn(
-            "worker", workers=1, env={"URNBOUND_CLIENT_TIMEOUT": str(CLIENT_TIMEOUT_S)}
+            "worker",
+            workers=1,
+            env={
+                "URNBOUND_CLIENT_TIMEOUT": str(CLIENT_TIMEOUT_S),
+                "URNBOUND_WORKER_TIMEOUT": str(WORKER_TIMEOUT_S),
+            },
         )
     finally:
         stack.close()
@@ -125,3 +135,37 @@ def test_client_timeout_reads_and_checks_the_environment(monkeypatch: pytest.Mon
         monkeypatch.setenv("URNBOUND_CLIENT_TIMEOUT", bad)
         with pytest.raises(SystemExit):
             client_timeout()
+
+
+def exits_by_reason(instance: Server) -> dict[str, float]:
+    """urnbound_worker_exits_total from the instance's /metrics, by reason."""
+    raw = exchange(instance.port, b"GET /metrics HTTP/1.1\r\nHost: s\r\nConnection: close\r\n\r\n")
+    body = raw.partition(b"\r\n\r\n")[2].decode()
+    found = {}
+    for family in text_string_to_metric_families(body):
+        for sample in family.samples:
+            if sample.name == "urnbound_worker_exits_total":
+                found[sample.labels["reason"]] = sample.value
+    return found
+
+
+def test_a_stalled_worker_is_replaced_and_counted_as_a_timeout(instance: Server) -> None:
+    # Runs last in this module: the instance has one worker, stopped here until replaced.
+    (worker,) = instance.worker_pids()
+    os.kill(worker, signal.SIGSTOP)  # its heartbeat stops, as in a worker stuck in C code
+    deadline = time.monotonic() + 60
+    while time.monotonic() < deadline and worker in instance.worker_pids():
+        time.sleep(0.2)
+    assert worker not in instance.worker_pids()
+    while time.monotonic() < deadline and not instance.worker_pids():
+        time.sleep(0.2)
+    assert "WORKER TIMEOUT" in instance.log()
+    answered = None
+    while time.monotonic() < deadline and answered is None:
+        try:
+            answered = exits_by_reason(instance)
+        except OSError:
+            time.sleep(0.2)
+    assert answered is not None and answered.get("timeout", 0) >= 1
+    assert instance.metrics_dir is not None
+    assert list(instance.metrics_dir.glob(f"*_{worker}.db")) == []
