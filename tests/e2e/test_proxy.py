@@ -371,3 +371,12 @@ def test_the_proxy_answers_502_as_a_problem_when_no_instance_is_up(
         assert_problem(response.status_code, headers, response.json(), expected=502)
     finally:
         stack.close()
+
+
+def test_metrics_are_not_served_to_the_fronts_clients(front: Front) -> None:
+    response = requests.get(front.proxy.base_url + "/metrics", timeout=REQUEST_TIMEOUT_S)
+    headers = {name.lower(): value for name, value in response.headers.items()}
+    assert_problem(response.status_code, headers, response.json(), expected=404)
+    # The monitoring system scrapes each instance directly.
+    direct = requests.get(front.instances[0].base_url + "/metrics", timeout=REQUEST_TIMEOUT_S)
+    assert direct.status_code == 200
