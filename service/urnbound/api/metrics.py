@@ -5,7 +5,7 @@ from __future__ import annotations
 import os
 import time
 from collections.abc import Callable, Iterable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 from flask import Flask, Response, request
@@ -42,6 +42,16 @@ class Metrics:
     cache_events: Counter
     answers: Counter
     multiprocess_dir: str | None
+
+    def count_cache_lookup(self, hit: bool) -> None:
+        """Count one lookup in the answer cache (children resolved once, not per request)."""
+        child = self._cache_children.get(hit)
+        if child is None:
+            child = self._cache_children[hit] = self.cache_events.labels(
+                result="hit" if hit else "miss")
+        child.inc()
+
+    _cache_children: dict[bool, Counter] = field(default_factory=dict, repr=False)
 
     def exposition(self) -> bytes:
         """The current samples in the Prometheus text format."""

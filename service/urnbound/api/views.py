@@ -35,14 +35,11 @@ def answer_question() -> Response:
     known = known_question(state.caching, question.name, request.query_string, load)
     metrics = state.metrics
 
-    def record_lookup(hit: bool) -> None:
-        metrics.cache_events.labels(result="hit" if hit else "miss").inc()
-
     response, fresh = conditional_answer(
         state.caching,
         known,
         lambda: state.renderer.render(question, known.question, state.context),
-        record_lookup,
+        metrics.count_cache_lookup,
     )
     if fresh is not None and fresh.method is not None:
         metrics.answers.labels(endpoint=question.name, method=fresh.method).inc()
