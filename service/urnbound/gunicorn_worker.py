@@ -72,7 +72,7 @@ def problem_response(status: int, reason: str, detail: str) -> bytes:
 
     The title is gunicorn's reason phrase (``about:blank`` problems are titled by status).
 
-    >>> problem_response(414, "URI Too Long", "Too long.").split(b"\r\n")[0]
+    >>> problem_response(414, "URI Too Long", "Too long.").splitlines()[0]
     b'HTTP/1.1 414 URI Too Long'
     """
     body = json.dumps(
