@@ -1,0 +1,58 @@
+"""Benchmark of the costliest requests found: CPU time of each through the whole app.
+
+Run: ``python tests/bench/bench_worst.py`` (not collected by pytest). Prints the README's
+"Cost of a request" table. Each request goes through the product app in-process (query
+parsing, computation, rendering; the answer cache off, so every run computes), best of
+three runs of CPU time. Add a row when a new question or a review finds a costlier one.
+"""
+
+from __future__ import annotations
+
+import sys
+import time
+
+from urnbound.app import create_app
+
+NINES = "0." + "9" * 198
+
+#: (request, why it is costly)
+WORST: list[tuple[str, str]] = [
+    ("/v1/collisions?bits=64&count=2555", "at the exact-path limit: fraction, figures exact"),
+    ("/v1/collisions?size=1e6&count=8304", "the exact path's costliest space at its limit"),
+    ("/v1/collisions?bits=8192&count=" + str(2**8192 - 3), "n close to N at the largest space"),
+    ("/v1/collisions?bits=8192&count=" + str(2**8000), "n a large power of the largest space"),
+    ("/v1/capacity?size=18446744073709551615&max_risk=1.8e-13",
+     "both boundary risks exact at the exact-path limit"),
+    ("/v1/capacity?size=1e6&max_risk=0.999999999999999", "the same, next to 1"),
+    ("/v1/lengths?alphabet_size=3&count=164&max_risk=1e-300", "the same, a tiny target"),
+    ("/v1/capacity?size=1e6&max_risk=0.5", "both boundary risks exact"),
+    ("/v1/capacity?bits=8191&max_risk=" + NINES, "a 200-character target next to 1"),
+    ("/v1/bits?count=" + str(2**4000) + "&max_risk=" + NINES, "a huge count, the same target"),
+    ("/v1/lengths?alphabet=base64&count=1e9&max_risk=0.99999999999999999", "target next to 1"),
+]
+
+
+def best_cpu_ms(client: object, path: str, runs: int = 3) -> tuple[float, int]:
+    """Best CPU milliseconds of ``runs`` requests for ``path``, and the last status."""
+    best, status = float("inf"), 0
+    for _ in range(runs):
+        start = time.process_time()
+        response = client.get(path)  # type: ignore[attr-defined]
+        best = min(best, time.process_time() - start)
+        status = response.status_code
+    return best * 1e3, status
+
+
+def main() -> int:
+    client = create_app({"cache_entries": 0, "access_log": False}).test_client()
+    print("| request | why | status | ms |")
+    print("|---|---|---:|---:|")
+    for path, why in WORST:
+        ms, status = best_cpu_ms(client, path)
+        shown = path if len(path) < 90 else path[:60] + "…" + path[-20:]
+        print(f"| `{shown}` | {why} | {status} | {ms:.1f} |")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
