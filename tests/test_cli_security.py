@@ -31,6 +31,11 @@ def run(*arguments: str) -> subprocess.CompletedProcess[str]:
      ["--window"]),
     (["guessing", "--format", "uuid-v1", "--live", "5", "--guesses", "1"], ["--format"]),
     (["collisions", "--format", "nope", "--count", "5"], ["--format"]),
+    (["collisions", "--format", "uuid-v7", "--count", "5", "--rate", "5", "--duration", "P1D"],
+     ["--count", "--rate"]),
+    (["collisions", "--format", "uuid-v7", "--rate", "5"], ["--duration"]),
+    (["collisions", "--format", "uuid-v7", "--rate", "5", "--duration", "P1M"], ["--duration"]),
+    (["rates", "--bits", "64", "--duration", "P1D", "--max-risk", "1e-6"], ["--space"]),
 ])
 def test_bad_input_exits_2_naming_every_field(arguments: list[str], named: list[str]) -> None:
     done = run(*arguments)

@@ -40,12 +40,13 @@ def test_validator_rejects_a_broken_document(openapi_document: dict[str, Any]) -
 def test_document_covers_every_route(openapi_document: dict[str, Any]) -> None:
     assert set(openapi_document["paths"]) == {
         "/v1/collisions", "/v1/lengths", "/v1/capacity", "/v1/bits", "/v1/alphabets",
-        "/v1/formats", "/v1/prefixes", "/v1/guessing",
+        "/v1/formats", "/v1/prefixes", "/v1/guessing", "/v1/rates",
         "/healthz", "/readyz", "/metrics", "/openapi.json",
     }
     names = {p["name"] for p in openapi_document["paths"]["/v1/collisions"]["get"]["parameters"]}
     assert names == {"bits", "alphabet", "alphabet_size", "symbols", "length", "size",
-                     "format", "count"}
+                     "format", "tick", "random_bits", "count", "rate", "duration", "burst",
+                     "burst_share"}
 
 
 def test_served_document_equals_the_committed_one(client: FlaskClient) -> None:

@@ -215,9 +215,13 @@ def test_bad_arguments_name_the_field() -> None:
 # --- properties ----------------------------------------------------------------------------
 
 
+FINE = mpmath.MPContext()
+FINE.prec = 200  # 60 digits: enough to hold a 20-digit text and its bound apart
+
+
 def _interval(magnitude: Magnitude) -> tuple[mpmath.mpf, mpmath.mpf]:
-    value = mpmath.mpf(magnitude.decimal)
-    spread = mpmath.mpf(magnitude.relative_error_bound)
+    value = FINE.mpf(magnitude.decimal)
+    spread = FINE.mpf(magnitude.relative_error_bound)
     return value * (1 - spread), value * (1 + spread)
 
 

@@ -60,9 +60,16 @@ def test_ambiguity_at_scale_against_mpmath(bits: int, count: int) -> None:
 
 
 def _ambiguity_mp(bits: int, count: int) -> mpmath.mpf:
+    """1 - (1 - 2^-t)^count by mpmath's log1p at 400 bits."""
     ctx = mpmath.MPContext()
     ctx.prec = 400
     return -ctx.expm1(count * ctx.log1p(-ctx.mpf(2) ** -bits))
+
+
+def _fraction_mp(value: Fraction) -> mpmath.mpf:
+    ctx = mpmath.MPContext()
+    ctx.prec = 400
+    return ctx.mpf(value.numerator) / value.denominator
 
 
 @pytest.mark.parametrize(("count", "target"), [
@@ -72,9 +79,9 @@ def _ambiguity_mp(bits: int, count: int) -> mpmath.mpf:
 def test_fewest_unambiguous_bits_is_tight(count: int, target: Fraction) -> None:
     bits = fewest_unambiguous_bits(count, target)
     assert bits is not None
-    assert _ambiguity_mp(bits, count) <= mpmath.mpf(target.numerator) / target.denominator
+    assert _ambiguity_mp(bits, count) <= _fraction_mp(target)
     if bits > 1:
-        assert _ambiguity_mp(bits - 1, count) > mpmath.mpf(target.numerator) / target.denominator
+        assert _ambiguity_mp(bits - 1, count) > _fraction_mp(target)
 
 
 def test_an_exact_boundary_is_decided_exactly() -> None:
@@ -91,10 +98,14 @@ def test_inverse_agrees_with_the_forward_risk_at_its_boundary(count: int, expone
     target = Fraction(1, 10**exponent)
     bits = fewest_unambiguous_bits(count, target, exact_digit_limit=limit)
     assert bits is not None
+    ctx = mpmath.MPContext()
+    ctx.prec = 200  # 60 digits: a 20-digit text and its bound stay apart
+    limit_value = ctx.mpf(target.numerator) / target.denominator
     at = ambiguity(bits, count, exact_digit_limit=limit)
-    assert mpmath.mpf(at.hit.decimal) * (1 - at.hit.relative_error_bound) <= (
-        mpmath.mpf(target.numerator) / target.denominator)
+    assert ctx.mpf(at.hit.decimal) * (1 - ctx.mpf(at.hit.relative_error_bound)) <= limit_value
+    assert _ambiguity_mp(bits, count) <= limit_value
     if bits > 1:
         shorter = ambiguity(bits - 1, count, exact_digit_limit=limit)
-        assert mpmath.mpf(shorter.hit.decimal) * (1 + shorter.hit.relative_error_bound) > (
-            mpmath.mpf(target.numerator) / target.denominator)
+        assert ctx.mpf(shorter.hit.decimal) * (1 + ctx.mpf(shorter.hit.relative_error_bound)) > (
+            limit_value)
+        assert _ambiguity_mp(bits - 1, count) > limit_value

@@ -44,3 +44,5 @@ MAX_DURATION_NUMBER_DIGITS = 15
 #: Lowest and highest rate accepted (guesses or identifiers per second).
 MIN_RATE = Fraction(1, 10**9)
 MAX_RATE = 10**30
+#: Largest burst factor (peak over mean rate) of the tick model.
+MAX_BURST = 10**6

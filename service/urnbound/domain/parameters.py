@@ -29,7 +29,7 @@ from urnbound.core.limits import (
     MIN_LENGTH,
     MIN_SPACE_SIZE,
 )
-from urnbound.domain import alphabets, formats, numbers, spaces
+from urnbound.domain import alphabets, durations, formats, numbers, spaces
 
 #: Pattern of the decimal text that counts, sizes and risk targets are written in.
 NUMBER_PATTERN = r"^\s*[+-]?([0-9]+(\.[0-9]*)?|\.[0-9]+)([eE][+-]?[0-9]+)?\s*$"
@@ -209,11 +209,30 @@ FORMAT = Parameter(
     {"type": "string", "enum": list(formats.NAMED_FORMATS), "maxLength": MAX_TEXT_CHARS},
 )
 
-#: An identifier space, in exactly one of six forms.
+TICK = Parameter(
+    "tick",
+    lambda text: durations.parse_duration(text, field="tick"),
+    durations.duration_rule(),
+    "The tick of a custom time-ordered layout, as an ISO 8601 duration (with random_bits): "
+    "identifiers can coincide only within one tick.",
+    "PT0.001S",
+    {"type": "string", "maxLength": MAX_TEXT_CHARS},
+)
+
+RANDOM_BITS = Parameter(
+    "random_bits",
+    _whole("random_bits", MIN_BITS, MAX_BITS),
+    numbers.whole_rule(MIN_BITS, MAX_BITS, scientific=False),
+    "Random bits each identifier of a custom time-ordered layout draws within a tick.",
+    "74",
+    {"type": "integer", "minimum": MIN_BITS, "maximum": MAX_BITS},
+)
+
+#: An identifier space, in exactly one of seven forms.
 SPACE = Choice(
     "space",
     "The identifier space: bits; alphabet, alphabet_size or symbols with length; size; "
-    "or format.",
+    "format; or tick with random_bits.",
     (
         Form(BITS, (), spaces.space_from_bits),
         Form(ALPHABET, (LENGTH,), spaces.space_from_alphabet),
@@ -221,6 +240,7 @@ SPACE = Choice(
         Form(SYMBOLS, (LENGTH,), spaces.space_from_alphabet),
         Form(SIZE, (), spaces.space_from_size),
         Form(FORMAT, (), formats.space_of_format),
+        Form(TICK, (RANDOM_BITS,), formats.custom_layout_space),
     ),
 )
 
@@ -238,5 +258,5 @@ ALPHABET_CHOICE = Choice(
 #: Every parameter defined here, by name.
 PARAMETERS: Mapping[str, Parameter] = MappingProxyType(
     {p.name: p for p in (BITS, ALPHABET, ALPHABET_SIZE, SYMBOLS, LENGTH, SIZE, COUNT, MAX_RISK,
-                         FORMAT)}
+                         FORMAT, TICK, RANDOM_BITS)}
 )

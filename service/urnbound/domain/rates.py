@@ -41,9 +41,33 @@ def parse_rate(text: str, *, field: str) -> Fraction:
     >>> parse_rate("1e4", field="guess_rate"), parse_rate(" 0.25 ", field="rate")
     (Fraction(10000, 1), Fraction(1, 4))
     """
+    return parse_decimal_in(text, field, MIN_RATE, MAX_RATE, rate_rule())
+
+
+def decimal_rule(low: Fraction | int, high: Fraction | int, *, low_open: bool = False) -> str:
+    """The allowed form and range of a plain decimal parameter, as a phrase.
+
+    >>> decimal_rule(0, 1, low_open=True)
+    'a decimal number above 0 and at most 1, written as digits or in scientific notation'
+    """
+    start = f"above {low}" if low_open else f"from {low}"
+    end = "and at most" if low_open else "to"
+    return f"a decimal number {start} {end} {high}, written as digits or in scientific notation"
+
+
+def parse_decimal_in(text: str, field: str, low: Fraction | int, high: Fraction | int,
+                     rule: str, *, low_open: bool = False) -> Fraction:
+    """The unsigned decimal number written in ``text``, exactly, within [low, high].
+
+    With ``low_open`` the low end is excluded. The exponent has at most 4 digits, so the
+    number built is bounded before it is built.
+
+    >>> parse_decimal_in("1.5", "burst", 1, 10**6, "a number")
+    Fraction(3, 2)
+    """
 
     def refuse(reason: str) -> DomainError:
-        return DomainError(f"{field} must be {rate_rule()} (got {reason})", field=field)
+        return DomainError(f"{field} must be {rule} (got {reason})", field=field)
 
     if not isinstance(text, str):
         raise refuse(f"a value of type {type(text).__name__}")
@@ -54,12 +78,18 @@ def parse_rate(text: str, *, field: str) -> Fraction:
         raise refuse("an empty value")
     if stripped.startswith("-"):
         raise refuse("a negative value")
-    match = _RATE.fullmatch(stripped)
-    if match is None:
+    if _RATE.fullmatch(stripped) is None:
         raise refuse("text that is not a decimal number")
     value = Fraction(stripped.lstrip("+"))
-    if value < MIN_RATE:
-        raise refuse(f"a value below {_exponent_text(MIN_RATE)}")
-    if value > MAX_RATE:
-        raise refuse(f"a value above {_exponent_text(MAX_RATE)}")
+    if value < low or (low_open and value == low):
+        raise refuse(f"a value below {_bound(low)}" if value < low else f"a value of {low}")
+    if value > high:
+        raise refuse(f"a value above {_bound(high)}")
     return value
+
+
+def _bound(value: Fraction | int) -> str:
+    if isinstance(value, Fraction) and value.denominator != 1:
+        return _exponent_text(value) if value.numerator == 1 else str(value)
+    whole = int(value)
+    return _exponent_text(whole) if whole >= 10**6 and str(whole).strip("0") == "1" else str(whole)

@@ -4,6 +4,10 @@ The fewest uniformly random bits b at which ``count`` identifiers collide with
 probability at most ``max_risk``, with the risk at b and at b - 1 (which exceeds
 ``max_risk``): both sides of the boundary are certified.
 
+For a time-ordered layout give ``tick``, ``rate`` and ``duration`` instead of ``count``
+(optionally ``burst`` with ``burst_share``): the answer is then the fewest random bits
+each identifier draws within a tick, by the tick model.
+
 Example: ``GET /v1/bits?count=5e8&max_risk=1e-12``
 """
 
@@ -12,7 +16,7 @@ from __future__ import annotations
 from urnbound.core.inverse import fewest_bits
 from urnbound.domain.boundary import boundary_bound, collision_of
 from urnbound.domain.inputs import Inputs
-from urnbound.domain.parameters import COUNT, MAX_RISK
+from urnbound.domain.parameters import COUNT, MAX_RISK, TICK
 from urnbound.domain.question import (
     Answer,
     AnswerField,
@@ -24,9 +28,18 @@ from urnbound.domain.question import (
     space_field,
 )
 from urnbound.domain.spaces import space_from_bits
+from urnbound.domain.timed import (
+    LOAD_PARAMETERS,
+    TICK_MODEL_FIELD,
+    tick_bits_values,
+    uses_tick_bits,
+)
 
 
 def _answer(inputs: Inputs, context: Context) -> Answer:
+    if uses_tick_bits(inputs):
+        values = tick_bits_values(inputs)
+        return Answer(values, values["method"])
     found = fewest_bits(inputs["count"], inputs["max_risk"],
                         exact_digit_limit=context.exact_digit_limit)
     bits, at_bits, one_fewer = found.length, found.at_length, found.one_shorter
@@ -39,6 +52,7 @@ def _answer(inputs: Inputs, context: Context) -> Answer:
             "count": inputs["count"],
             "method": at_bits.method,
             "relative_error_bound": boundary_bound(at_bits, one_fewer),
+            "tick_model": None,
         },
         at_bits.method,
     )
@@ -49,7 +63,8 @@ QUESTION = Question(
     path="/v1/bits",
     summary="Fewest random bits that keep the risk of count identifiers within max_risk.",
     description=__doc__ or "",
-    inputs=(COUNT, MAX_RISK),
+    inputs=(MAX_RISK,),
+    optional=(COUNT, TICK, *LOAD_PARAMETERS),
     answer=(
         AnswerField("bits", "integer", "The fewest random bits within max_risk."),
         AnswerField("collision", "probability", "The risk at that many bits."),
@@ -60,6 +75,7 @@ QUESTION = Question(
         count_field(),
         method_field("the risk at the answer"),
         bound_field("both reported risks"),
+        TICK_MODEL_FIELD,
     ),
     compute=_answer,
     example={"count": "5e8", "max_risk": "1e-12"},

@@ -5,6 +5,11 @@ uniformly from the space are not all distinct, with its complement and the expec
 number of equal pairs and of duplicates. Small questions are exact; large ones come
 from a uniform Stirling expansion with a stated error bound.
 
+A time-ordered space (``format=uuid-v7``, or ``tick`` + ``random_bits``) takes ``rate`` and
+``duration`` instead of ``count`` (and optionally ``burst`` with ``burst_share``): two of
+its identifiers can coincide only within one tick, and the answer is the tick model's
+(``tick_model`` gives the load it saw).
+
 Example: ``GET /v1/collisions?alphabet=base64url&length=8&count=2e6``
 """
 
@@ -15,6 +20,7 @@ from dataclasses import dataclass
 from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT
 from urnbound.core.pairwise import collision_risk, related_figures
 from urnbound.core.results import CollisionRisk, RelatedFigures
+from urnbound.core.ticks import tick_risk
 from urnbound.domain.inputs import Inputs
 from urnbound.domain.parameters import COUNT, SPACE
 from urnbound.domain.question import (
@@ -28,6 +34,13 @@ from urnbound.domain.question import (
     space_field,
 )
 from urnbound.domain.spaces import IdSpace
+from urnbound.domain.timed import (
+    LOAD_PARAMETERS,
+    TICK_MODEL_FIELD,
+    collision_values,
+    loads_of,
+    uses_tick_model,
+)
 
 
 @dataclass(frozen=True, slots=True)
@@ -54,6 +67,10 @@ def collision_report(
 
 
 def _answer(inputs: Inputs, context: Context) -> Answer:
+    if uses_tick_model(inputs):
+        space = inputs["space"]
+        ticked = tick_risk(space.random_bits, loads_of(inputs, space.tick_seconds))
+        return Answer(collision_values(inputs, ticked), ticked.method)
     report = collision_report(inputs["space"], inputs["count"],
                               exact_digit_limit=context.exact_digit_limit)
     risk, figures = report.risk, report.figures
@@ -69,6 +86,7 @@ def _answer(inputs: Inputs, context: Context) -> Answer:
             "method": risk.method,
             "relative_error_bound": risk.relative_error_bound,
             "exact": risk.exact,
+            "tick_model": None,
         },
         risk.method,
     )
@@ -79,7 +97,8 @@ QUESTION = Question(
     path="/v1/collisions",
     summary="Collision risk of count identifiers drawn from one space.",
     description=__doc__ or "",
-    inputs=(SPACE, COUNT),
+    inputs=(SPACE,),
+    optional=(COUNT, *LOAD_PARAMETERS),
     answer=(
         AnswerField("collision", "probability", "P(at least two identifiers are equal)."),
         AnswerField("no_collision", "probability",
@@ -98,6 +117,7 @@ QUESTION = Question(
         AnswerField("exact", "fraction",
                     "The risk as a reduced fraction, when its terms have at most 1,000 "
                     "digits each (exact method only).", nullable=True),
+        TICK_MODEL_FIELD,
     ),
     compute=_answer,
     example={"alphabet": "base64url", "length": "8", "count": "2e6"},
