@@ -265,3 +265,13 @@ def test_hit_chance_falls_with_bits(bits: int, live: int, guesses: int, limit: i
         wider = compute(2 ** (bits + 1), live, guesses, exact_digit_limit=limit)
         narrower = compute(2**bits, live, guesses, exact_digit_limit=limit)
         assert _at_most(wider.hit, narrower.hit)
+
+
+@pytest.mark.parametrize(("size", "live", "guesses"), [(2, 1, 2**8192), (5, 3, 10**6), (1000, 7, 2**40)])
+def test_small_spaces_with_countless_independent_guesses(size: int, live: int,
+                                                         guesses: int) -> None:
+    # the exact fraction would have G log10 N digits: the bounded path answers instead
+    chance = independent_hit(size, live, guesses)
+    assert chance.method == "asymptotic" and chance.hit.decimal == "1.0000000000000000000e0"
+    _check_against_log(chance, _mpmath_log_miss("independent", size, live, guesses))
+    assert hit_at_most(chance, Fraction(1, 2), distinct=False) is False

@@ -27,9 +27,8 @@ nearest, u = 2**-w, and each error below is a bound in units of u):
   ln ff and -A(N, k), and the absolute errors of the terms and of the two additions are
   summed, then divided by the computed |l| (less that sum) for a relative bound.
 
-Then P(miss) = exp(l) with relative error expm1(|l| e) + u, and P(hit) = -expm1(l) with
-relative error e + 2u (expm1 at l < 0 has condition |l| e**l / (1 - e**l) <= 1), where e
-is the relative bound on l. The precision is raised until both floats are decided
+Then P(miss) = exp(l) and P(hit) = 1 - P(miss), each with its bound, from l and its
+relative bound e (``core/logprob.py``). The precision is raised until both floats are decided
 (``reporting.bounded_magnitude``), at most ``ROUNDING_TRIES`` times.
 """
 
@@ -48,6 +47,7 @@ from urnbound.core.asymptotic import MIN_SIZE, log_no_collision
 from urnbound.core.errors import DomainError, NoConvergence
 from urnbound.core.exact import falling_factorial, magnitude_of_fraction
 from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, MAX_FRACTION_DIGITS
+from urnbound.core.logprob import from_log
 from urnbound.core.precision import Real
 from urnbound.core.results import ASYMPTOTIC, EXACT, Magnitude, Method
 from urnbound.core.search import RiskInterval, interval_verdict
@@ -151,7 +151,7 @@ def hit_at_most(chance: HitChance, threshold: Fraction, *, distinct: bool,
         if verdict is not None:
             return verdict
         bits *= 2
-    if size < MIN_SIZE or _exact_cost(kind, size, live, guesses) <= exact_digit_limit:
+    if _exact_only(kind, size) or _exact_cost(kind, size, live, guesses) <= exact_digit_limit:
         numerator, denominator = _exact_miss(kind, size, live, guesses)
         return (denominator - numerator) * threshold.denominator <= (
             threshold.numerator * denominator)
@@ -198,7 +198,7 @@ def _chance(kind: str, size: int, live: int, guesses: int, limit: int) -> HitCha
     known = _known_hit(kind, size, live, guesses)
     if known is not None:
         return _exact_chance(size, live, guesses, known.numerator, known.denominator)
-    if size < MIN_SIZE or _exact_cost(kind, size, live, guesses) <= limit:
+    if _exact_only(kind, size) or _exact_cost(kind, size, live, guesses) <= limit:
         miss, denominator = _exact_miss(kind, size, live, guesses)
         return _exact_chance(size, live, guesses, denominator - miss, denominator)
     bits = TARGET_BITS
@@ -208,6 +208,11 @@ def _chance(kind: str, size: int, live: int, guesses: int, limit: int) -> HitCha
             return answer
         bits *= 2
     raise NoConvergence("the hit chance lies too close to a rounding boundary")
+
+
+def _exact_only(kind: str, size: int) -> bool:
+    """Distinct guesses in a space below MIN_SIZE: no expansion, and k < 1,024 terms."""
+    return kind == _DISTINCT and size < MIN_SIZE
 
 
 def _exact_cost(kind: str, size: int, live: int, guesses: int) -> int:
@@ -260,21 +265,9 @@ def _bounded(kind: str, size: int, live: int, guesses: int, target: int) -> _Bou
         log_miss, log_error, work = _log_miss_distinct(size, live, guesses, target)
     else:
         log_miss, log_error, work = _log_miss_independent(size, live, guesses, target)
-    unit = libmp.from_man_exp(1, -work)
-    up = libmp.round_ceiling
-    absolute = libmp.mpf_mul(mp.absolute(log_miss), log_error, 64, up)
-    miss = mp.exp(log_miss, work)
-    miss_error = mp.add_up(_expm1_bound(absolute), unit)
-    hit = mp.neg(mp.expm1(log_miss, work))
-    hit_error = mp.add_up(log_error, libmp.mpf_shift(unit, 1))
-    return _Bounded(hit, hit_error, miss, miss_error, log_miss, work)
-
-
-def _expm1_bound(error: Real) -> Real:
-    """An upper bound on expm1(e) for e >= 0: 2e below 1/2, exp(e) rounded up above."""
-    if mp.less(error, libmp.from_man_exp(1, -1)):
-        return libmp.mpf_shift(error, 1)
-    return libmp.mpf_exp(error, 64, libmp.round_ceiling)
+    found = from_log(log_miss, log_error, target)
+    return _Bounded(found.complement, found.complement_error, found.probability,
+                    found.probability_error, log_miss, found.prec)
 
 
 def _work_bits(target: int, magnitude: int) -> int:

@@ -21,8 +21,8 @@ Evaluation at w bits (u = 2**-w, every libmp operation rounded to nearest):
   its rounding (the condition x g'(x) / g(x) = x**2 / ((1 + x) g(x)) is at most 2). So g
   is within 6u relative; ticks rounded and the product, 2u; the sum of non-negative terms,
   u per term; M a power of two, exact. Bound stated: (8 + classes) u relative on l.
-* P(no collision) = exp(l), off by expm1(|l| e) + u relative; P(collision) = -expm1(l), off
-  by e + 2u (expm1 at l < 0 has condition at most 1), where e bounds l relatively.
+* P(no collision) = exp(l) and P(collision) = 1 - exp(l), each with its bound, from l and
+  its relative bound (``core/logprob.py``).
 
 w is the target, plus the bits of |l| (exp needs l absolutely), plus guard bits, and is
 doubled until both floats are decided. Tails stay relative: a risk of 1e-300 or a
@@ -45,6 +45,7 @@ from urnbound.core import precision as mp
 from urnbound.core import reporting
 from urnbound.core.errors import DomainError, NoConvergence
 from urnbound.core.exact import magnitude_of_fraction
+from urnbound.core.logprob import from_log
 from urnbound.core.precision import Real
 from urnbound.core.results import Magnitude, Method
 from urnbound.core.search import RiskInterval, certified_boundary, hazard, log2_of_real
@@ -210,22 +211,9 @@ def _bounded(random_bits: int, loads: tuple[TickLoad, ...], target: int
         term = mp.mul(mp.real(load.ticks, work), _excess(ratio, work), work)
         total = mp.add(total, term, work)
     log_miss = mp.neg(mp.scale2(total, random_bits))
-    up = libmp.round_ceiling
-    unit = libmp.from_man_exp(1, -work)
-    error = libmp.from_man_exp(8 + len(loads), -work)
-    absolute = libmp.mpf_mul(mp.absolute(log_miss), error, 64, up)
-    miss = mp.exp(log_miss, work)
-    miss_error = mp.add_up(_expm1_bound(absolute), unit)
-    hit = mp.neg(mp.expm1(log_miss, work))
-    hit_error = mp.add_up(error, libmp.mpf_shift(unit, 1))
-    return miss, miss_error, hit, hit_error, log_miss, work
-
-
-def _expm1_bound(error: Real) -> Real:
-    """An upper bound on expm1(e) for e >= 0."""
-    if mp.less(error, libmp.from_man_exp(1, -1)):
-        return libmp.mpf_shift(error, 1)
-    return libmp.mpf_exp(error, 64, libmp.round_ceiling)
+    found = from_log(log_miss, libmp.from_man_exp(8 + len(loads), -work), target)
+    return (found.probability, found.probability_error, found.complement,
+            found.complement_error, log_miss, found.prec)
 
 
 def _alternating_unit(k: int, prec: int) -> Real:
