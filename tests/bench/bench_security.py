@@ -15,7 +15,7 @@ import sys
 
 from timing import median_seconds
 
-from urnbound.domain.question import Context
+from urnbound.domain.question import Answer, Context, Question
 from urnbound.domain.registry import default_registry
 
 TARGET_US = 2000.0
@@ -76,9 +76,8 @@ def main() -> int:
         question = registry[name]
         raw = {key: [value] for key, value in texts.items()}
 
-        def answer(question: object = question, raw: object = raw) -> object:
-            q = registry[name] if not hasattr(question, "load") else question
-            return q.answer_to(q.load(raw), context)  # type: ignore[union-attr, arg-type]
+        def answer(question: Question = question, raw: dict[str, list[str]] = raw) -> Answer:
+            return question.answer_to(question.load(raw), context)
 
         seconds = median_seconds(answer, REPEATS)
         micro = seconds * 1e6

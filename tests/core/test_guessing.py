@@ -267,7 +267,8 @@ def test_hit_chance_falls_with_bits(bits: int, live: int, guesses: int, limit: i
         assert _at_most(wider.hit, narrower.hit)
 
 
-@pytest.mark.parametrize(("size", "live", "guesses"), [(2, 1, 2**8192), (5, 3, 10**6), (1000, 7, 2**40)])
+@pytest.mark.parametrize(("size", "live", "guesses"),
+                         [(2, 1, 2**8192), (5, 3, 10**6), (1000, 7, 2**40)])
 def test_small_spaces_with_countless_independent_guesses(size: int, live: int,
                                                          guesses: int) -> None:
     # the exact fraction would have G log10 N digits: the bounded path answers instead
