@@ -73,6 +73,8 @@ def parsed(raw: bytes) -> tuple[int, str, dict[str, object]]:
         (b"GET / HTTP/1.1\r\nHost: s\r\nX-Big: " + b"a" * 9000 + b"\r\n\r\n", 431),
         (b"GET / HTTP/1.1\r\n" + b"".join(b"X-%d: 1\r\n" % i for i in range(120)) + b"\r\n", 431),
         (b"NOT HTTP AT ALL\r\n\r\n", 400),
+        # A TLS client hello (record type 0x16, RFC 8446 section 5.1) on the plain port.
+        (b"\x16\x03\x01\x00\xa5\x01\x00\x00\xa1\x03\x03" + bytes(64), 400),
     ],
 )
 def test_errors_before_the_app_are_problem_documents(

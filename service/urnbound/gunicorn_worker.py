@@ -14,7 +14,9 @@ adds them:
 * **Problem documents for errors found before the application runs.** gunicorn answers a
   request line too long (414), headers too large (431), a malformed request (400) and the
   like with an HTML page; this worker sends the same status as an RFC 9457
-  ``application/problem+json`` body instead, like every other error of the service.
+  ``application/problem+json`` body instead, like every other error of the service. A
+  connection whose first byte cannot open an HTTP request (a TLS handshake sent to the plain
+  port, binary data) is answered 400 at once instead of waiting out the deadline.
 
 deploy/gunicorn.conf.py selects it:
 ``worker_class = "urnbound.gunicorn_worker.GuardedThreadWorker"``.
@@ -29,6 +31,7 @@ import threading
 import time
 from typing import Any
 
+from gunicorn.workers import gthread
 from gunicorn.workers.gthread import ThreadWorker
 
 #: Environment variable: seconds one request may take, from its first byte to its answer.
@@ -89,6 +92,36 @@ def problem_response(status: int, reason: str, detail: str) -> bytes:
     return head + body
 
 
+#: Bytes an HTTP/1.1 request may open with: a method's token characters (RFC 9110 section
+#: 5.6.2), or the empty line a server should ignore before the request line (RFC 9112 2.2).
+REQUEST_START_BYTES = frozenset(
+    b"!#$%&'*+-.^_`|~0123456789ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz\r\n"
+)
+
+
+def speaks_http(sock: socket.socket) -> bool:
+    """Whether the bytes already received could open an HTTP/1.1 request (True if none yet).
+
+    Looks without consuming: a TLS handshake (first byte 0x16) or other binary data is told
+    apart at once, rather than after the request deadline.
+
+    >>> left, right = socket.socketpair()
+    >>> _ = right.send(b"\\x16\\x03\\x01")
+    >>> speaks_http(left)
+    False
+    >>> left.recv(3) == b"\\x16\\x03\\x01"
+    True
+    >>> left.close(); right.close()
+    """
+    try:
+        first = sock.recv(1, socket.MSG_PEEK | socket.MSG_DONTWAIT)
+    except (BlockingIOError, InterruptedError):
+        return True
+    except OSError:
+        return True  # gunicorn's own handling reports a broken connection
+    return not first or first[0] in REQUEST_START_BYTES
+
+
 class StatusCapture:
     """Stands in for the client socket while gunicorn writes its error page, keeping the bytes.
 
@@ -130,9 +163,29 @@ class GuardedThreadWorker(ThreadWorker):  # type: ignore[misc]
         thread = threading.get_ident()
         self.in_progress[thread] = (time.monotonic() + self.request_timeout, conn.sock)
         try:
+            if not conn.initialized:
+                # gthread's own wait for a new connection's first bytes (a silent one goes
+                # back to the event loop), done here so that those bytes can be looked at.
+                if not conn.data_ready and not conn.wait_for_data(
+                    gthread.DEFAULT_WORKER_DATA_TIMEOUT
+                ):
+                    return gthread._DEFER
+                if not speaks_http(conn.sock):
+                    self.refuse_non_http(conn)
+                    return False  # gthread closes the connection
             return super().handle(conn)
         finally:
             self.in_progress.pop(thread, None)
+
+    def refuse_non_http(self, conn: Any) -> None:
+        """Answer a connection that does not open with an HTTP request line: 400, at once."""
+        self.log.warning("Invalid request from ip=%s: not HTTP", conn.client[0])
+        detail = "The connection did not open with an HTTP/1.1 request line (TLS to a plain port?)."
+        try:
+            conn.sock.setblocking(False)
+            conn.sock.sendall(problem_response(400, "Bad Request", detail))
+        except OSError:
+            self.log.debug("Failed to send the problem document.")
 
     def murder_pending(self) -> None:
         """gthread's check of waiting connections, then the cut of requests past deadline."""
