@@ -118,6 +118,15 @@ def test_the_front_is_the_proxy_and_the_proxy_reaches_the_service() -> None:
     assert env_of(proxy)["URNBOUND_PROXY_STATE_DIR"] in mounts
 
 
+def test_metrics_are_scraped_from_gunicorn_not_through_the_proxy() -> None:
+    annotations = one("Deployment")["spec"]["template"]["metadata"]["annotations"]
+    service = containers()["service"]
+    assert annotations["prometheus.io/port"] == str(service["ports"][0]["containerPort"])
+    assert annotations["prometheus.io/path"] == "/metrics"
+    template = (DEPLOY / "nginx.conf.in").read_text(encoding="utf-8")
+    assert re.search(r"location = /metrics \{\s*return 404;", template)
+
+
 def test_autoscaler_budget_and_service_select_the_deployment() -> None:
     deployment = one("Deployment")
     labels = deployment["spec"]["template"]["metadata"]["labels"]
