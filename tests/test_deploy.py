@@ -214,3 +214,23 @@ def test_nginx_accepts_the_configuration_the_pod_renders(tmp_path: Path) -> None
     )
     assert checked.returncode == 0, checked.stderr
     assert "syntax is ok" in checked.stderr
+
+
+def test_the_renderer_reads_the_pods_environment(tmp_path: Path) -> None:
+    # As deploy/proxy-entrypoint.sh runs it: options from URNBOUND_PROXY_* variables only.
+    env = dict(env_of(containers()["proxy"]), URNBOUND_PROXY_STATE_DIR=str(tmp_path / "state"))
+    output = tmp_path / "nginx.conf"
+    subprocess.run(
+        [sys.executable, str(DEPLOY / "render_nginx.py"), "--output", str(output)],
+        env={**env, "PATH": "/usr/bin:/bin"},
+        check=True,
+        timeout=60,
+        stdin=subprocess.DEVNULL,
+    )
+    text = output.read_text(encoding="utf-8")
+    assert f"listen {env['URNBOUND_PROXY_LISTEN']} default_server" in text
+    assert f"server {env['URNBOUND_PROXY_UPSTREAMS']} " in text
+    assert f"rate={env['URNBOUND_PROXY_RATE']}r/s" in text
+    assert f"burst={env['URNBOUND_PROXY_BURST']} nodelay" in text
+    assert (tmp_path / "state" / "cache").is_dir()
+    assert f"pid {tmp_path / 'state'}/nginx.pid;" in text
