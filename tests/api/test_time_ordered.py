@@ -94,6 +94,8 @@ def test_highest_rate_of_uuid_v7(client: FlaskClient, conforms: Conforms) -> Non
     ("/v1/bits", "count=5&rate=5&duration=P1D&tick=PT1S&max_risk=1e-6", {"count", "rate"}),
     ("/v1/rates", "bits=64&duration=P1D&max_risk=1e-6", {"space"}),
     ("/v1/rates", "format=uuid-v7&max_risk=1e-6", {"duration"}),
+    ("/v1/capacity", "format=uuid-v7&max_risk=1e-6", {"space"}),
+    ("/v1/capacity", "tick=PT1S&random_bits=40&max_risk=1e-6", {"space"}),
 ])
 def test_bad_time_ordered_queries_name_their_fields(client: FlaskClient, conforms: Conforms,
                                                     path: str, query: str,

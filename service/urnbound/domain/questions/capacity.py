@@ -3,6 +3,9 @@
 The largest count n whose collision risk is at most ``max_risk``, with the risk at n and
 at n + 1 (which exceeds ``max_risk``): both sides of the boundary are certified.
 
+A time-ordered space (``format=uuid-v7``, ``tick`` + ``random_bits``) takes a rate, not a
+count: it is refused here, and ``GET /v1/rates`` answers its inverse question.
+
 Example: ``GET /v1/capacity?alphabet=base32&length=8&max_risk=1e-6``
 """
 
@@ -10,6 +13,8 @@ from __future__ import annotations
 
 from urnbound.core.inverse import largest_count
 from urnbound.domain.boundary import boundary_bound
+from urnbound.domain.errors import InvalidQuery
+from urnbound.domain.formats import TimeOrderedSpace
 from urnbound.domain.inputs import Inputs
 from urnbound.domain.parameters import MAX_RISK, SPACE
 from urnbound.domain.question import (
@@ -25,6 +30,10 @@ from urnbound.domain.question import (
 
 def _answer(inputs: Inputs, context: Context) -> Answer:
     space = inputs["space"]
+    if isinstance(space, TimeOrderedSpace):
+        raise InvalidQuery({"space": [
+            "the space is time-ordered: its capacity is a rate over a duration; ask "
+            "GET /v1/rates with duration and max_risk"]})
     found = largest_count(space.size, inputs["max_risk"],
                           exact_digit_limit=context.exact_digit_limit)
     return Answer(
