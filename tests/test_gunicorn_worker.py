@@ -6,10 +6,8 @@ import json
 import os
 import signal
 import socket
-import tempfile
 import time
 from collections.abc import Iterator
-from pathlib import Path
 
 import pytest
 from prometheus_client.parser import text_string_to_metric_families
@@ -24,8 +22,8 @@ WORKER_TIMEOUT_S = 2
 
 
 @pytest.fixture(scope="module")
-def instance() -> Iterator[Server]:
-    stack = Stack(Path(tempfile.mkdtemp(prefix="urnbound-worker-")))
+def instance(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Server]:
+    stack = Stack(tmp_path_factory.mktemp("worker"))
     try:
         yield stack.gunicorn(
             "worker",

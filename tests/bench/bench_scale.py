@@ -30,6 +30,7 @@ import asyncio
 import itertools
 import os
 import platform
+import shutil
 import statistics
 import sys
 import tempfile
@@ -172,6 +173,7 @@ def main(argv: list[str]) -> int:
         print_table(results, args)
     finally:
         stack.close()
+        shutil.rmtree(stack.work, ignore_errors=True)
     return 0
 
 

@@ -22,6 +22,7 @@ in time; every process is stopped by its id at the end.
 from __future__ import annotations
 
 import argparse
+import shutil
 import socket
 import statistics
 import sys
@@ -141,6 +142,7 @@ def main(argv: list[str]) -> int:
             outcome = measure(port, args.slow, args.seconds)
         finally:
             stack.close()
+            shutil.rmtree(stack.work, ignore_errors=True)
         held = statistics.median(outcome.held_s) if outcome.held_s else float("nan")
         print(
             f"| {setup} | {outcome.answered}/{outcome.probes} | {outcome.within_second} | "
