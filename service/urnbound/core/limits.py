@@ -46,3 +46,11 @@ MIN_RATE = Fraction(1, 10**9)
 MAX_RATE = 10**30
 #: Largest burst factor (peak over mean rate) of the tick model.
 MAX_BURST = 10**6
+#: Longest horizon a risk budget is projected over: 1,000 years of 365 days, in seconds.
+MAX_HORIZON_SECONDS = 1_000 * 365 * 86_400
+#: Largest yearly growth factor of an issue rate (the smallest is any value above 0).
+MAX_GROWTH = 10
+#: Moments of a budget's series and counts of a curve: fewest, default and most.
+MIN_POINTS = 2
+DEFAULT_POINTS = 50
+MAX_POINTS = 500

@@ -1,0 +1,147 @@
+"""GET /v1/budgets through the Flask test client, and `urnbound budgets` on the command line."""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from fractions import Fraction
+
+import pytest
+from click.testing import CliRunner
+from flask.testing import FlaskClient
+from tests.core._reference import high_precision_risk, ln_of_text, relative_gap
+from werkzeug.test import TestResponse
+
+from urnbound.cli import build_cli
+from urnbound.core.limits import MAX_POINTS
+from urnbound.domain.durations import parse_duration
+
+Conforms = Callable[[TestResponse, str], None]
+PATH = "/v1/budgets"
+#: A ledger service: 64-bit identifiers, forty million issued, two million a day.
+LEDGER = "bits=64&issued=4e7&rate=2e6&per=P1D&horizon=P730D"
+
+
+def _problem(client: FlaskClient, conforms: Conforms, query: str) -> dict[str, list[str]]:
+    response = client.get(f"{PATH}?{query}")
+    assert response.status_code == 422, response.get_data(as_text=True)
+    assert response.mimetype == "application/problem+json"
+    conforms(response, PATH)
+    errors: dict[str, list[str]] = response.get_json()["errors"]
+    return errors
+
+
+def test_a_steady_budget_projects_counts_and_risks(client: FlaskClient, conforms: Conforms
+                                                   ) -> None:
+    response = client.get(f"{PATH}?{LEDGER}&max_risk=1e-3&points=5")
+    assert response.status_code == 200
+    conforms(response, PATH)
+    body = response.get_json()
+    assert body["now"]["count"] == "40000000"
+    # forty million plus two million a day for 730 days
+    assert body["at_horizon"]["count"] == "1500000000"
+    assert body["at_horizon"]["offset"] == "P730D"
+    assert [p["offset"] for p in body["series"]] == [
+        "P0D", "P182DT12H", "P365D", "P547DT12H", "P730D"]
+    for point in body["series"]:
+        ref = high_precision_risk(2**64, int(point["count"]))
+        # mpmath's log-gamma at high precision (tests/core/_reference.py)
+        gap = relative_gap(ref.mp, ln_of_text(ref.mp, point["collision"]["decimal"]), ref.ln_risk)
+        assert gap <= 1e-19
+    exhausted = body["exhausted_after"]
+    assert exhausted["already_exhausted"] is False
+    seconds = Fraction(int(exhausted["seconds"]))
+    assert parse_duration(exhausted["duration"], field="t") == seconds
+    # the count is issued + rate t, exactly, on both sides of the moment
+    assert int(exhausted["count"]) == 40_000_000 + int(seconds * 2_000_000 / 86_400)
+    assert int(exhausted["count_before"]) == 40_000_000 + int((seconds - 1) * 2_000_000 / 86_400)
+    assert exhausted["collision_before"]["value"] <= 1e-3 < exhausted["collision"]["value"]
+    assert int(body["headroom"]) == int(body["capacity"]) - 40_000_000
+    assert body["assumptions"].startswith("These figures assume")
+
+
+def test_over_budget_now_is_p0d_with_the_flag(client: FlaskClient, conforms: Conforms) -> None:
+    response = client.get(f"{PATH}?{LEDGER}&max_risk=1e-6")
+    conforms(response, PATH)
+    body = response.get_json()
+    assert body["exhausted_after"]["duration"] == "P0D"
+    assert body["exhausted_after"]["already_exhausted"] is True
+    assert body["exhausted_after"]["collision_before"] is None
+    assert body["headroom"] == "0"
+    assert body["capacity_used"]["value"] > 1
+
+
+def test_a_horizon_ending_first_gives_null(client: FlaskClient, conforms: Conforms) -> None:
+    response = client.get(f"{PATH}?format=uuid-v4&issued=1e9&rate=1e4&horizon=P3650D"
+                          "&max_risk=1e-9")
+    assert response.status_code == 200
+    conforms(response, PATH)
+    body = response.get_json()
+    assert body["exhausted_after"] is None
+    assert len(body["series"]) == 50
+    assert body["space"]["bits"] == 122.0
+
+
+def test_growth_changes_the_count_and_the_cache_key(client: FlaskClient) -> None:
+    steady = client.get(f"{PATH}?{LEDGER}&max_risk=1e-3&points=2").get_json()
+    growing = client.get(f"{PATH}?{LEDGER}&max_risk=1e-3&points=2&growth=2").get_json()
+    # rate 2e6/day doubling yearly, two years: 2e6 * 365 * (4 - 1) / ln 2 on top of 4e7
+    assert growing["at_horizon"]["count"] == "3199502139"
+    assert int(growing["at_horizon"]["count"]) > int(steady["at_horizon"]["count"])
+    same = client.get(f"{PATH}?{LEDGER}&max_risk=0.001&points=2&growth=2.0")
+    assert same.get_json() == growing
+
+
+def test_per_and_rate_per_second_agree(client: FlaskClient) -> None:
+    daily = client.get(f"{PATH}?bits=80&rate=86400&per=P1D&horizon=P30D&max_risk=1e-9")
+    secondly = client.get(f"{PATH}?bits=80&rate=1&horizon=P30D&max_risk=1e-9")
+    assert daily.get_json() == secondly.get_json()
+
+
+@pytest.mark.parametrize(("query", "field", "phrase"), [
+    ("bits=64&rate=5&horizon=P1D&max_risk=1e-6&per=daily", "per", "ISO 8601 duration"),
+    ("bits=64&rate=5&horizon=P1D&max_risk=1e-6&per=P1M", "per", "no years or months"),
+    ("bits=64&rate=5&horizon=P400000D&max_risk=1e-6", "horizon", "at most P365000D"),
+    ("bits=64&rate=5&horizon=-P1D&max_risk=1e-6", "horizon", "ISO 8601 duration"),
+    (f"{LEDGER}&max_risk=1e-6&points={MAX_POINTS + 1}", "points", f"from 2 to {MAX_POINTS}"),
+    (f"{LEDGER}&max_risk=1e-6&points=1", "points", f"from 2 to {MAX_POINTS}"),
+    (f"{LEDGER}&max_risk=1e-6&growth=0", "growth", "above 0 and at most 10"),
+    (f"{LEDGER}&max_risk=1e-6&growth=-1", "growth", "above 0 and at most 10"),
+    (f"{LEDGER}&max_risk=1e-6&growth=11", "growth", "above 0 and at most 10"),
+    ("bits=64&rate=0&horizon=P1D&max_risk=1e-6", "rate", "from 1e-9 to 1e30"),
+    ("bits=64&rate=1e31&horizon=P1D&max_risk=1e-6", "rate", "from 1e-9 to 1e30"),
+    ("bits=64&horizon=P1D&max_risk=1e-6", "rate", "missing"),
+    ("bits=64&rate=5&max_risk=1e-6", "horizon", "missing"),
+    ("bits=64&rate=5&horizon=P1D&max_risk=1", "max_risk", "up to but not including 1"),
+    ("bits=64&rate=5&horizon=P1D&max_risk=1e-6&issued=-4", "issued", "from 0 to 2^8192"),
+    ("format=uuid-v7&rate=5&horizon=P1D&max_risk=1e-6", "space", "time-ordered"),
+])
+def test_bad_input_is_a_problem_naming_the_field_and_range(
+    client: FlaskClient, conforms: Conforms, query: str, field: str, phrase: str
+) -> None:
+    errors = _problem(client, conforms, query)
+    assert field in errors
+    assert phrase in " ".join(errors[field])
+
+
+@pytest.mark.parametrize(("arguments", "option"), [
+    (["--per", "weekly"], "--per"),
+    (["--horizon", "P400000D"], "--horizon"),
+    (["--points", "501"], "--points"),
+    (["--growth", "0"], "--growth"),
+])
+def test_cli_bad_input_exits_2_naming_the_option(arguments: list[str], option: str) -> None:
+    base = {"--bits": "64", "--rate": "5", "--horizon": "P1D", "--max-risk": "1e-6"}
+    given = dict(zip(arguments[::2], arguments[1::2], strict=True))
+    argv = [part for name, value in {**base, **given}.items() for part in (name, value)]
+    result = CliRunner().invoke(build_cli(), ["budgets", *argv])
+    assert result.exit_code == 2
+    assert f"{option}:" in result.output
+
+
+def test_cli_json_is_the_api_body(client: FlaskClient) -> None:
+    argv = ["budgets", "--bits", "64", "--issued", "4e7", "--rate", "2e6", "--per", "P1D",
+            "--horizon", "P730D", "--max-risk", "1e-3", "--points", "3", "--json"]
+    result = CliRunner().invoke(build_cli(), argv)
+    assert result.exit_code == 0, result.output
+    body = client.get(f"{PATH}?{LEDGER}&max_risk=1e-3&points=3").get_data(as_text=True)
+    assert result.output.strip() == body
