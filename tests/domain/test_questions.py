@@ -49,7 +49,7 @@ def _mpmath_risk(size: int, count: int) -> mpmath.mpf:
 def test_registry_holds_the_five_questions_in_path_order() -> None:
     assert [q.path for q in REGISTRY] == [
         "/v1/alphabets", "/v1/bits", "/v1/budgets", "/v1/capacity", "/v1/collisions",
-        "/v1/formats",
+        "/v1/curves", "/v1/formats",
         "/v1/guessing", "/v1/lengths", "/v1/prefixes", "/v1/rates",
         "/v1/reviews",
     ]

@@ -12,6 +12,7 @@ import math
 import re
 from fractions import Fraction
 
+from urnbound.core.curves import SPACINGS
 from urnbound.core.errors import DomainError
 from urnbound.core.limits import (
     DEFAULT_POINTS,
@@ -27,6 +28,8 @@ from urnbound.core.limits import (
 )
 from urnbound.domain import numbers
 from urnbound.domain.durations import duration_rule, parse_duration
+from urnbound.domain.errors import InvalidQuery
+from urnbound.domain.inputs import Inputs
 from urnbound.domain.parameters import NUMBER_PATTERN, Parameter
 
 _WHITESPACE = " \t\r\n\f\v"
@@ -215,3 +218,47 @@ POINTS = Parameter(
     "50",
     {"type": "integer", "minimum": MIN_POINTS, "maximum": MAX_POINTS},
 )
+FROM = Parameter(
+    "from",
+    lambda text: numbers.parse_count(text, field="from"),
+    numbers.whole_rule(0, MAX_COUNT, scientific=True) + " (at least 1 for log spacing)",
+    "The smallest count of the curve.",
+    "1e3",
+    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": MAX_BIG_TEXT_CHARS},
+)
+TO = Parameter(
+    "to",
+    lambda text: numbers.parse_count(text, field="to"),
+    numbers.whole_rule(0, MAX_COUNT, scientific=True) + ", above from",
+    "The largest count of the curve.",
+    "1e9",
+    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": MAX_BIG_TEXT_CHARS},
+)
+
+
+def _spacing(text: str) -> str:
+    value = text.strip().lower() if isinstance(text, str) else ""
+    if value not in SPACINGS:
+        raise DomainError(f"spacing must be one of {', '.join(SPACINGS)} (got {text!r})"[:300],
+                          field="spacing")
+    return value
+
+
+SPACING = Parameter(
+    "spacing",
+    _spacing,
+    "one of " + ", ".join(SPACINGS),
+    "How the counts are spread from from to to: log (default; each a constant factor "
+    "above the last) or linear (evenly).",
+    "log",
+    {"type": "string", "enum": list(SPACINGS), "maxLength": MAX_TEXT_CHARS},
+)
+
+
+def refuse_time_ordered(inputs: Inputs) -> None:
+    """Time-ordered spaces are answered by the tick model, which takes no count."""
+    if getattr(inputs["space"], "tick_seconds", None) is not None:
+        raise InvalidQuery({"space": [
+            "budgets and curves are asked of a space whose identifiers may coincide at any "
+            "time: a time-ordered layout (format=uuid-v7, or tick with random_bits) is "
+            "answered by /v1/collisions and /v1/rates with rate and duration"]})

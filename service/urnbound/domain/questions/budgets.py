@@ -29,7 +29,6 @@ from urnbound.core.exact import magnitude_of_fraction
 from urnbound.core.limits import DEFAULT_POINTS
 from urnbound.core.projection import BudgetProjection, IssueSchedule, ProjectedPoint, project_budget
 from urnbound.core.results import CollisionRisk
-from urnbound.domain.errors import InvalidQuery
 from urnbound.domain.inputs import Inputs
 from urnbound.domain.parameters import MAX_RISK, SPACE
 from urnbound.domain.question import (
@@ -49,6 +48,7 @@ from urnbound.domain.schedules import (
     PER,
     POINTS,
     elapsed_text,
+    refuse_time_ordered,
 )
 
 
@@ -60,15 +60,6 @@ def schedule_of(inputs: Inputs) -> IssueSchedule:
         rate=inputs["rate"] / per,
         growth=inputs["growth"] if inputs["growth"] is not None else Fraction(1),
     )
-
-
-def refuse_time_ordered(inputs: Inputs) -> None:
-    """Time-ordered spaces are answered by the tick model, which takes no count."""
-    if getattr(inputs["space"], "tick_seconds", None) is not None:
-        raise InvalidQuery({"space": [
-            "budgets and curves are asked of a space whose identifiers may coincide at any "
-            "time: a time-ordered layout (format=uuid-v7, or tick with random_bits) is "
-            "answered by /v1/collisions and /v1/rates with rate and duration"]})
 
 
 def moment(point: ProjectedPoint) -> dict[str, Any]:
