@@ -65,9 +65,18 @@ def question_command(question: Question) -> click.Command:
     ]
     options.append(click.Option(["--json", "as_json"], is_flag=True,
                                 help="Print the API's JSON body instead of a table."))
+    if question.chart is not None:
+        options.append(click.Option(
+            ["--chart", "chart_path"], type=_PATH, default=None, metavar="FILE",
+            help="Write the answer's chart to FILE as SVG (the API's image/svg+xml body) "
+            "instead of printing the answer."))
 
-    def answer(as_json: bool, **given: tuple[str, ...]) -> None:
+    def answer(as_json: bool, chart_path: Path | None = None, **given: tuple[str, ...]) -> None:
         raw = {name: list(texts) for name, texts in given.items() if texts}
+        if chart_path is not None:
+            chart_path.write_bytes(_rendered(question, raw, chart=True).body)
+            click.echo(f"wrote {chart_path}")
+            return
         text = _answer_text(question, raw, as_json)
         click.echo(text)
 
@@ -112,20 +121,26 @@ def _forms_epilog(question: Question) -> str:
 
 
 def _answer_text(question: Question, raw: Mapping[str, Sequence[str]], as_json: bool) -> str:
+    body = _rendered(question, raw, chart=False).body.decode()
+    return body if as_json else table(json.loads(body))
+
+
+def _rendered(question: Question, raw: Mapping[str, Sequence[str]], chart: bool) -> Any:
+    """The API's body for ``raw`` (its chart with ``chart``); exits on bad input."""
     from urnbound.api.rendering import renderer_for  # the answer path, only when answering
 
     try:
         inputs = question.load(raw)
         context = Context(exact_digit_limit=Settings.from_env().exact_digit_limit)
-        rendered = renderer_for(Registry((question,))).render(question, inputs, context)
+        renderer = renderer_for(Registry((question,)))
+        render = renderer.render_chart if chart else renderer.render
+        return render(question, inputs, context)
     except InvalidQuery as error:
         _fail(question, _error_line(error.errors), BAD_INPUT)
     except NoConvergence as error:
         _fail(question, error.detail, FAILED)
     except DomainError as error:
         _fail(question, _error_line({error.field or "question": [error.detail]}), BAD_INPUT)
-    body = rendered.body.decode()
-    return body if as_json else table(json.loads(body))
 
 
 def _error_line(errors: Mapping[str, list[str]]) -> str:

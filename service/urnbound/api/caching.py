@@ -14,9 +14,6 @@ from flask import Response, request
 
 from urnbound.api.rendering import CachedAnswer
 
-#: Media type of every answer body.
-JSON_MEDIA_TYPE = "application/json"
-
 K = TypeVar("K", bound=Hashable)
 V = TypeVar("V")
 Q = TypeVar("Q")
@@ -119,6 +116,12 @@ def known_question(
     return known
 
 
+def variant(known: KnownQuestion[Q], media_type: str) -> KnownQuestion[Q]:
+    """The same question answered in another representation: its own digest and ETag."""
+    digest = hashlib.sha256(f"{known.digest}\n{media_type}".encode()).hexdigest()
+    return KnownQuestion(known.question, digest)
+
+
 def conditional_answer(
     policy: CachePolicy,
     known: KnownQuestion[Any],
@@ -142,7 +145,7 @@ def conditional_answer(
     if answer is None:
         answer = fresh = compute()
         policy.answers.put(known.digest, answer)
-    response = Response(answer.body, status=200, mimetype=JSON_MEDIA_TYPE)
+    response = Response(answer.body, status=200, mimetype=answer.media_type)
     return _with_cache_headers(response, known.etag, policy.max_age), fresh
 
 

@@ -43,12 +43,23 @@ def _problem(description: str) -> dict[str, Any]:
     return {"description": description, "content": {PROBLEM_MEDIA_TYPE: {"schema": "Problem"}}}
 
 
+def _answer_content(question: Question) -> dict[str, Any]:
+    content: dict[str, Any] = {"application/json": {"schema": schemas.component_name(question)}}
+    if question.chart is not None:
+        content["image/svg+xml"] = {"schema": {
+            "type": "string",
+            "description": "A chart of the same answer, sent when Accept prefers "
+            "image/svg+xml to application/json (Vary: Accept).",
+        }}
+    return content
+
+
 def _answer_operation(question: Question) -> dict[str, Any]:
     responses: dict[str, Any] = {
         "200": {
             "description": question.summary,
             "headers": _CACHE_HEADERS,
-            "content": {"application/json": {"schema": schemas.component_name(question)}},
+            "content": _answer_content(question),
         },
         "304": {"description": "Not modified: If-None-Match matched the ETag.",
                 "headers": _CACHE_HEADERS},

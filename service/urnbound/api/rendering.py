@@ -18,13 +18,18 @@ from urnbound.domain.inputs import Inputs
 from urnbound.domain.question import Context, Question
 from urnbound.domain.registry import Registry
 
+#: Media type of an answer body, and of a chart of it.
+JSON_MEDIA_TYPE = "application/json"
+SVG_MEDIA_TYPE = "image/svg+xml"
+
 
 @dataclass(frozen=True, slots=True)
 class CachedAnswer:
-    """A serialized answer body and the method that produced it (if any)."""
+    """A serialized answer body, the method that produced it (if any) and its media type."""
 
     body: bytes
     method: str | None = None
+    media_type: str = JSON_MEDIA_TYPE
 
 
 def json_body(document: Mapping[str, object]) -> bytes:
@@ -43,6 +48,14 @@ class Renderer:
         answer = question.answer_to(inputs, context)
         document = self.dumpers[question.name](answer.values)
         return CachedAnswer(json_body(document), answer.method)
+
+    def render_chart(self, question: Question, inputs: Inputs, context: Context) -> CachedAnswer:
+        """The chart of the answer to ``question`` (which must declare one), as SVG."""
+        if question.chart is None:
+            raise ValueError(f"question {question.name} has no chart")
+        answer = question.answer_to(inputs, context)
+        document = self.dumpers[question.name](answer.values)
+        return CachedAnswer(question.chart(document), answer.method, SVG_MEDIA_TYPE)
 
 
 def renderer_for(registry: Registry) -> Renderer:

@@ -95,6 +95,8 @@ class Question:
     :ivar example: a request, parameter -> text.
     :ivar optional: parameters that may be left out (loaded as ``None``).
     :ivar premise: the text of the ``assumptions`` member, or ``None`` for no such member.
+    :ivar chart: answer document (the JSON-ready body) -> an SVG chart of it, for questions
+        that can be drawn (``domain/charts.py``); ``None`` for the others.
     """
 
     name: str
@@ -107,6 +109,7 @@ class Question:
     example: Mapping[str, str]
     optional: tuple[Parameter, ...] = ()
     premise: str | None = ASSUMPTION
+    chart: Callable[[Mapping[str, Any]], bytes] | None = None
     fields_by_name: Mapping[str, AnswerField] = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:

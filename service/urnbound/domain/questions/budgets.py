@@ -29,6 +29,7 @@ from urnbound.core.exact import magnitude_of_fraction
 from urnbound.core.limits import DEFAULT_POINTS
 from urnbound.core.projection import BudgetProjection, IssueSchedule, ProjectedPoint, project_budget
 from urnbound.core.results import CollisionRisk
+from urnbound.domain import charts
 from urnbound.domain.inputs import Inputs
 from urnbound.domain.parameters import MAX_RISK, SPACE
 from urnbound.domain.question import (
@@ -113,6 +114,8 @@ def _answer(inputs: Inputs, context: Context) -> Answer:
             "capacity_used": magnitude_of_fraction(used.numerator, used.denominator),
             "rate_per_second": magnitude_of_fraction(schedule.rate.numerator,
                                                      schedule.rate.denominator),
+            "max_risk": magnitude_of_fraction(inputs["max_risk"].numerator,
+                                              inputs["max_risk"].denominator),
             "series": [moment(point) for point in projection.series],
             "space": inputs["space"],
             "method": method,
@@ -169,6 +172,7 @@ QUESTION = Question(
         AnswerField("capacity", "whole", "The largest count within max_risk."),
         AnswerField("capacity_used", "magnitude", "issued / capacity (above 1 when over)."),
         AnswerField("rate_per_second", "magnitude", "The rate now, per second."),
+        AnswerField("max_risk", "magnitude", "The budget, as given."),
         AnswerField("series", "records", "Evenly spaced moments from now to the horizon.",
                     members=MOMENT_MEMBERS),
         space_field(),
@@ -176,6 +180,7 @@ QUESTION = Question(
         bound_field("every reported risk"),
     ),
     compute=_answer,
+    chart=charts.budget_chart,
     example={"bits": "64", "issued": "4e7", "rate": "2e6", "per": "P1D", "horizon": "P730D",
              "max_risk": "1e-6", "points": "5"},
 )

@@ -15,6 +15,7 @@ from typing import Any
 
 from urnbound.core.curves import RiskCurve, risk_curve
 from urnbound.core.limits import DEFAULT_POINTS
+from urnbound.domain import charts
 from urnbound.domain.inputs import Inputs
 from urnbound.domain.parameters import SPACE
 from urnbound.domain.question import (
@@ -72,5 +73,6 @@ QUESTION = Question(
         bound_field("every reported risk"),
     ),
     compute=_answer,
+    chart=charts.curve_chart,
     example={"bits": "64", "from": "1e6", "to": "1e10", "points": "5"},
 )
