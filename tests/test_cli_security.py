@@ -61,3 +61,15 @@ def test_formats_table_is_a_grid() -> None:
     assert done.returncode == 0
     assert done.stdout.splitlines()[0] == "formats:"
     assert any(line.split()[:2] == ["uuid-v7", "74"] for line in done.stdout.splitlines())
+
+
+def test_review_prints_a_sheet_with_its_verdicts() -> None:
+    done = run("reviews", "--alphabet", "base64url", "--length", "16", "--count", "1e9",
+               "--live", "1e5", "--guess-rate", "1e4", "--window", "P365D", "--max-risk",
+               "1e-12", "--max-success", "1e-9")
+    assert done.returncode == 0, done.stderr
+    lines = done.stdout.splitlines()
+    assert lines[0] == "verdicts:"
+    assert lines[1].split()[:3] == ["check", "threshold", "passes"]
+    assert any(line.split()[:1] == ["collision"] and " no " in line for line in lines[2:5])
+    assert any(line.startswith("shortest_compliant_length.length") for line in lines)

@@ -1,4 +1,4 @@
-"""Benchmark of the security-review questions: formats, prefixes, guessing, the tick model.
+"""Benchmark of the security-review questions: formats, prefixes, guessing, ticks, reviews.
 
 Run: ``python tests/bench/bench_security.py`` (not collected by pytest). Prints a markdown
 table for the README. Target (issue 7): each answer in at most 2 ms in-process at any
@@ -64,6 +64,15 @@ CASES: list[tuple[str, str, dict[str, str]]] = [
     ("rates: 8192 bits a 1 ns tick, 1 ns, max_risk 0.5 (at the 1e30 cap)", "rates",
      {"tick": "PT0.000000001S", "random_bits": "8192", "duration": "PT0.000000001S",
       "max_risk": "0.5"}),
+    ("reviews: 16 base64url, 1e9 ids, attacker 1e4/s for a year, both ceilings", "reviews",
+     {"alphabet": "base64url", "length": "16", "count": "1e9", "live": "1e5",
+      "guess_rate": "1e4", "window": "P365D", "max_risk": "1e-12", "max_success": "1e-9"}),
+    ("reviews: uuid-v7, 5e4/s for ten years, attacker, both ceilings", "reviews",
+     {"format": "uuid-v7", "rate": "5e4", "duration": "P3650D", "max_risk": "1e-9",
+      "live": "1e6", "guess_rate": "1e3", "window": "P1D", "max_success": "1e-12"}),
+    ("reviews: 2^8192 bits, 2^4000 ids, 2^4000 guesses, 1e-300 ceilings", "reviews",
+     {"bits": "8192", "count": str(2**4000), "live": str(2**4000), "guesses": str(2**4000),
+      "max_risk": "1e-300", "max_success": "1e-300"}),
 ]
 
 

@@ -8,9 +8,9 @@ N values, L of them live (valid at once), G guesses:
   by symmetry of the hypergeometric law); P(miss) = 0 when G + L > N;
 * independent guesses (each uniform, repeats allowed): P(miss) = (1 - L/N)**G.
 
-Exact path. When the integers involved have at most ``exact_digit_limit`` digits
-(k log10 N, resp. G log10 N), both probabilities are reduced fractions, reported
-correctly rounded (relative error bound 0).
+Exact path. When the integers involved have at most ``EXACT_DIGITS`` digits and at most
+``exact_digit_limit`` (k log10 N, resp. G log10 N), both probabilities are reduced
+fractions, reported correctly rounded (relative error bound 0).
 
 Bounded path. l = ln P(miss) is formed at w bits (every libmp operation rounds to
 nearest, u = 2**-w, and each error below is a bound in units of u):
@@ -58,8 +58,10 @@ ROUNDING_TRIES = 4
 TARGET_BITS = 64
 #: Guard bits on top of the target and of the magnitude of l.
 GUARD_BITS = 16
-#: Exact comparisons with a threshold are made first below this many digits.
-EXACT_FIRST_DIGITS = 1_500
+#: The exact path is taken only up to this many digits (and the caller's limit): past it
+#: the falling factorials and their gcd cost more than 0.3 ms, the bounded path some 0.07 ms
+#: for a bound near 5e-20 (tests/bench/bench_security.py).
+EXACT_DIGITS = 5_000
 _DISTINCT = "distinct"
 _INDEPENDENT = "independent"
 
@@ -136,43 +138,74 @@ def hit_at_most(chance: HitChance, threshold: Fraction, *, distinct: bool,
     >>> hit_at_most(c, Fraction(1, 2**32 + 1), distinct=False)
     False
     """
-    kind = _DISTINCT if distinct else _INDEPENDENT
     size, live, guesses = chance.size, chance.live, chance.guesses
-    known = _known_hit(kind, size, live, guesses)
+    known = known_hit(size, live, guesses, distinct=distinct)
     if known is not None:
         return known <= threshold
     if chance.exact is not None:
         return chance.exact <= threshold
     bits = TARGET_BITS
     for _ in range(ROUNDING_TRIES + 1):
-        bounded = _bounded(kind, size, live, guesses, bits)
-        verdict = interval_verdict(RiskInterval(bounded.hit, bounded.hit_error, bounded.miss,
-                                                bounded.miss_error, bounded.prec), threshold)
+        interval = hit_interval(size, live, guesses, bits, distinct=distinct)
+        verdict = None if interval is None else interval_verdict(interval, threshold)
         if verdict is not None:
             return verdict
         bits *= 2
-    if _exact_only(kind, size) or _exact_cost(kind, size, live, guesses) <= exact_digit_limit:
-        numerator, denominator = _exact_miss(kind, size, live, guesses)
-        return (denominator - numerator) * threshold.denominator <= (
-            threshold.numerator * denominator)
+    if exact_hit_allowed(size, live, guesses, exact_digit_limit, distinct=distinct):
+        return exact_hit_at_most(size, live, guesses, threshold, distinct=distinct)
     raise NoConvergence("the hit chance lies too close to max_success to decide")
 
 
-def interval_of_independent(size: int, live: int, guesses: int, bits: int
-                            ) -> RiskInterval | None:
-    """The bounded path's hit chance and complement for independent guesses, at ``bits``.
+def known_hit(size: int, live: int, guesses: int, *, distinct: bool) -> Fraction | None:
+    """The hit chance when it needs no arithmetic: 0 for no guess, 1 when every value is
+    live (or more are live than the space holds), or distinct guesses must reach one.
 
-    ``None`` when the answer is known without arithmetic (no guess, every value live).
+    >>> known_hit(10, 3, 8, distinct=True), known_hit(10, 3, 8, distinct=False) is None
+    (Fraction(1, 1), True)
+    """
+    if guesses == 0:
+        return Fraction(0)
+    if live >= size or (distinct and guesses + live > size):
+        return Fraction(1)
+    return None
 
-    >>> iv = interval_of_independent(2**64, 1, 2**32, 64)
+
+def hit_interval(size: int, live: int, guesses: int, bits: int, *, distinct: bool
+                 ) -> RiskInterval | None:
+    """The bounded path's hit chance and complement, with their bounds, at ``bits``.
+
+    ``None`` when the answer is known without arithmetic, or (distinct guesses in a space
+    below MIN_SIZE) only the exact path answers.
+
+    >>> iv = hit_interval(2**64, 1, 2**32, 64, distinct=False)
     >>> round(mp.to_float(iv.risk) * 2**32, 6)
     1.0
     """
-    if _known_hit(_INDEPENDENT, size, live, guesses) is not None:
+    kind = _DISTINCT if distinct else _INDEPENDENT
+    if known_hit(size, live, guesses, distinct=distinct) is not None or _exact_only(kind, size):
         return None
-    bounded = _bounded(_INDEPENDENT, size, live, guesses, bits)
+    bounded = _bounded(kind, size, live, guesses, bits)
     return RiskInterval(bounded.hit, bounded.hit_error, bounded.miss, bounded.miss_error,
                         bounded.prec)
+
+
+def exact_hit_allowed(size: int, live: int, guesses: int, limit: int, *, distinct: bool) -> bool:
+    """True when the exact comparison is within ``limit`` digits (or the only one)."""
+    kind = _DISTINCT if distinct else _INDEPENDENT
+    return _exact_only(kind, size) or _exact_cost(kind, size, live, guesses) <= limit
+
+
+def exact_hit_at_most(size: int, live: int, guesses: int, threshold: Fraction, *,
+                      distinct: bool) -> bool:
+    """hit <= threshold with exact integers, for 1 <= live < size and a hit not known.
+
+    >>> exact_hit_at_most(10, 2, 3, Fraction(8, 15), distinct=True)
+    True
+    """
+    kind = _DISTINCT if distinct else _INDEPENDENT
+    numerator, denominator = _exact_miss(kind, size, live, guesses)
+    return bool((denominator - numerator) * threshold.denominator
+                <= threshold.numerator * denominator)
 
 
 def _check(size: int, live: int, guesses: int) -> None:
@@ -185,29 +218,27 @@ def _check(size: int, live: int, guesses: int) -> None:
         raise DomainError("guesses must be a whole number of at least 0", field="guesses")
 
 
-def _known_hit(kind: str, size: int, live: int, guesses: int) -> Fraction | None:
-    """0 for no guess, 1 when every value is live or distinct guesses must reach one."""
-    if guesses == 0:
-        return Fraction(0)
-    if live == size or (kind == _DISTINCT and guesses + live > size):
-        return Fraction(1)
-    return None
-
-
 def _chance(kind: str, size: int, live: int, guesses: int, limit: int) -> HitChance:
-    known = _known_hit(kind, size, live, guesses)
+    known = known_hit(size, live, guesses, distinct=kind == _DISTINCT)
     if known is not None:
         return _exact_chance(size, live, guesses, known.numerator, known.denominator)
-    if _exact_only(kind, size) or _exact_cost(kind, size, live, guesses) <= limit:
-        miss, denominator = _exact_miss(kind, size, live, guesses)
-        return _exact_chance(size, live, guesses, denominator - miss, denominator)
-    bits = TARGET_BITS
-    for _ in range(ROUNDING_TRIES):
-        answer = _reported(kind, size, live, guesses, bits)
-        if answer is not None:
-            return answer
-        bits *= 2
+    cost = _exact_cost(kind, size, live, guesses)
+    if _exact_only(kind, size) or cost <= min(limit, EXACT_DIGITS):
+        return _exact_of(kind, size, live, guesses)
+    answer = mp.first_decided(lambda bits: _reported(kind, size, live, guesses, bits),
+                              TARGET_BITS, TARGET_BITS << (ROUNDING_TRIES - 1))
+    if answer is not None:
+        return answer
+    # A float undecided at every precision (the value may be a float midpoint: for N a
+    # power of two the chances are binary fractions): exact, when affordable.
+    if cost <= max(limit, EXACT_DIGITS):
+        return _exact_of(kind, size, live, guesses)
     raise NoConvergence("the hit chance lies too close to a rounding boundary")
+
+
+def _exact_of(kind: str, size: int, live: int, guesses: int) -> HitChance:
+    miss, denominator = _exact_miss(kind, size, live, guesses)
+    return _exact_chance(size, live, guesses, denominator - miss, denominator)
 
 
 def _exact_only(kind: str, size: int) -> bool:

@@ -20,7 +20,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 
 from urnbound.core.errors import DomainError
-from urnbound.core.guessing import HitChance, independent_hit, interval_of_independent
+from urnbound.core.guessing import HitChance, hit_interval, independent_hit
 from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, MAX_BITS
 from urnbound.core.search import RiskInterval, certified_boundary, hazard, log2_of_real
 
@@ -90,7 +90,7 @@ class AmbiguityFamily:
         return 64
 
     def interval(self, index: int, bits: int) -> RiskInterval | None:
-        return interval_of_independent(2**index, 1, self.count, bits)
+        return hit_interval(2**index, 1, self.count, bits, distinct=False)
 
     def exact_first(self, index: int) -> bool:
         return self.count * index <= 1_500 * 3

@@ -48,7 +48,13 @@ from urnbound.core.exact import magnitude_of_fraction
 from urnbound.core.logprob import from_log
 from urnbound.core.precision import Real
 from urnbound.core.results import Magnitude, Method
-from urnbound.core.search import RiskInterval, certified_boundary, hazard, log2_of_real
+from urnbound.core.search import (
+    RiskInterval,
+    certified_boundary,
+    hazard,
+    interval_verdict,
+    log2_of_real,
+)
 
 #: The method name of every tick-model answer.
 TICK_MODEL: Method = "tick-model"
@@ -370,3 +376,25 @@ def highest_rate(random_bits: int, tick: Fraction, duration: Fraction, max_risk:
     if boundary is None:  # pragma: no cover - rate 0 has risk 0 and always passes
         raise NoConvergence("no rate passes, yet rate 0 never collides")
     return boundary.index
+
+
+def tick_risk_at_most(random_bits: int, loads: Sequence[TickLoad], max_risk: Fraction) -> bool:
+    """risk <= max_risk, decided from intervals at doubling precision (no exact path).
+
+    :raises NoConvergence: when no interval up to LAST_BITS decides.
+
+    >>> loads = steady_loads(Fraction(10**6), Fraction(1, 1000), Fraction(31536000))
+    >>> tick_risk_at_most(74, loads, Fraction(1, 10**6)), tick_risk_at_most(74, loads,
+    ...                                                                    Fraction(1, 10**7))
+    (True, False)
+    """
+    checked = _checked(random_bits, loads)
+    if not checked:
+        return True
+    bits = TARGET_BITS
+    while bits <= LAST_BITS:
+        verdict = interval_verdict(tick_interval(random_bits, checked, bits), max_risk)
+        if verdict is not None:
+            return verdict
+        bits *= 2
+    raise NoConvergence("the tick-model risk lies too close to max_risk to decide")
