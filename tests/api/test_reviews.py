@@ -41,8 +41,8 @@ def test_shortest_compliant_length_meets_every_threshold(client: FlaskClient) ->
                               ).get_json()["length"]
     assert length >= by_collision
     for at, passes in ((length, True), (length - 1, False)):
-        review = client.get(SCHEME.replace("length=16", f"length={at}").join(
-            ("/v1/reviews?", ""))).get_json()
+        scheme = SCHEME.replace("length=16", f"length={at}")
+        review = client.get(f"/v1/reviews?{scheme}").get_json()
         assert review["passes"] is passes, at
 
 
