@@ -33,6 +33,7 @@ ends first gives no T.
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -104,9 +105,13 @@ class IssueSchedule:
         return self.count_at(seconds) >= target
 
     def _first_bits(self, seconds: Fraction) -> int:
-        """Bits of c(t), plus those cancellation in expm1 and ln g near 1 costs, plus guard."""
-        return (max(1, math.ceil(self.log2_count(seconds))) + COUNT_GUARD_BITS
-                + _inverse_bits(self.growth - 1) + _inverse_bits(Fraction(seconds, YEAR_SECONDS)))
+        """Bits of c(t), plus those ln g loses near g = 1, plus guard; a multiple of 64.
+
+        (phi is evaluated with expm1, which keeps its relative accuracy at tiny x.)
+        """
+        bits = (max(1, math.ceil(self.log2_count(seconds))) + COUNT_GUARD_BITS
+                + _inverse_bits(self.growth - 1))
+        return -(-bits // 64) * 64
 
     def log2_count(self, seconds: Fraction) -> float:
         """log2 c(t), roughly (floats; for precisions and guesses only)."""
@@ -122,7 +127,7 @@ class IssueSchedule:
 
     def _enclosure(self, seconds: Fraction, prec: int) -> Interval:
         """An interval holding c(t) for t > 0, g != 1 (module docstring)."""
-        log_growth = _widened(libmpi.mpi_log(_enclose(self.growth, prec), prec), prec)
+        log_growth = _log_growth(self.growth.numerator, self.growth.denominator, prec)
         x = libmpi.mpi_mul(_enclose(Fraction(seconds, YEAR_SECONDS), prec), log_growth, prec)
         phi = (_phi(x[0], prec, libmp.round_floor), _phi(x[1], prec, libmp.round_ceiling))
         linear = libmpi.mpi_mul(_enclose(self.rate * seconds, prec), phi, prec)
@@ -143,6 +148,14 @@ class IssueSchedule:
             return 2**62  # a shrinking rate that never gets there
         inside = math.log1p(scaled) if abs(scaled) < 1e300 else math.log(abs(scaled))
         return max(0, math.ceil(YEAR_SECONDS * inside / log_g))
+
+
+@functools.lru_cache(maxsize=64)
+def _log_growth(numerator: int, denominator: int, prec: int) -> Interval:
+    """ln g enclosed at ``prec`` bits (cached: one projection asks it at a few precisions)."""
+    low, high = _widened(libmpi.mpi_log(_enclose(Fraction(numerator, denominator), prec), prec),
+                         prec)
+    return low, high
 
 
 def _settled(attempt: Callable[[int], int | None], first_bits: int) -> int:
@@ -291,9 +304,9 @@ def series_moments(horizon: Fraction, points: int) -> tuple[Fraction, ...]:
     """
     if points < 2:
         raise DomainError("points must be at least 2", field="points")
-    nanoseconds = 10**9
-    moments = [Fraction(math.floor(horizon * i * nanoseconds / (points - 1)), nanoseconds)
-               for i in range(points - 1)]
+    scale = 10**9 * horizon.numerator  # nanoseconds * horizon.denominator
+    steps = (points - 1) * horizon.denominator
+    moments = [Fraction(scale * i // steps, 10**9) for i in range(points - 1)]
     return (*moments, horizon)
 
 
