@@ -380,3 +380,20 @@ def test_metrics_are_not_served_to_the_fronts_clients(front: Front) -> None:
     # The monitoring system scrapes each instance directly.
     direct = requests.get(front.instances[0].base_url + "/metrics", timeout=REQUEST_TIMEOUT_S)
     assert direct.status_code == 200
+
+
+def test_cached_variants_follow_the_accept_header(front: Front, session: requests.Session) -> None:
+    # /v1/curves answers JSON or an SVG chart by Accept, with Vary: Accept (RFC 9111
+    # section 4.1): the shared cache must keep the two apart.
+    url = f"{front.proxy.base_url}/v1/curves?bits=64&from=1&to=1e9&points=5&spacing=log"
+    first, again = {}, {}
+    for accept in ("application/json", "image/svg+xml"):
+        first[accept] = session.get(url, headers={"Accept": accept}, timeout=REQUEST_TIMEOUT_S)
+    for accept in ("application/json", "image/svg+xml"):
+        again[accept] = session.get(url, headers={"Accept": accept}, timeout=REQUEST_TIMEOUT_S)
+    for accept in first:
+        assert first[accept].status_code == again[accept].status_code == 200
+        assert again[accept].headers["X-Cache-Status"] == "HIT"
+        assert again[accept].content == first[accept].content
+        assert again[accept].headers["Content-Type"].startswith(accept)
+    assert first["application/json"].content != first["image/svg+xml"].content
