@@ -31,8 +31,9 @@ class UtcClock:
     its cost per request.
     """
 
-    _second: int = -1
-    _prefix: str = ""
+    #: (second, its date and time text), replaced as one tuple: threads (gthread workers)
+    #: never see one second's text beside another second's number.
+    _cached: tuple[int, str] = (-1, "")
 
     def now(self) -> str:
         """The current time, e.g. ``2026-12-02T08:30:00.125+00:00``."""
@@ -49,10 +50,11 @@ class UtcClock:
         True
         """
         second, fraction = divmod(epoch_ns, 1_000_000_000)
-        if second != self._second:
-            self._prefix = time.strftime("%Y-%m-%dT%H:%M:%S", time.gmtime(second))
-            self._second = second
-        return f"{self._prefix}.{fraction // 1_000_000:03d}+00:00"
+        cached_second, prefix = self._cached
+        if second != cached_second:
+            prefix = time.strftime("%Y-%m-%dT%H:%M:%S", time.gmtime(second))
+            self._cached = (second, prefix)
+        return f"{prefix}.{fraction // 1_000_000:03d}+00:00"
 
 
 def write_line(line: str) -> None:
