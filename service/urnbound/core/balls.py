@@ -1,0 +1,258 @@
+"""Ball arithmetic for the occupancy engine: working precision, tails, and reporting of balls.
+
+The occupancy engine computes with python-flint's ``arb`` balls: each value is a midpoint
+and a radius that encloses the true value, so every rounding error is accounted for by
+the library. Precision is flint's ``ctx.prec``, which is process-wide: :func:`precision`
+sets it for the duration of a block and restores it. Under threads another block may
+change it meanwhile; that can only change how tight a ball is, never whether it encloses
+the true value, and every caller reads the accuracy it needs off the ball (and works
+again at more bits when it is short), so a race costs time, never correctness.
+
+Tails of the binomial and Poisson laws are summed from their small end by ratio series:
+the ratios of successive terms fall, so once a ratio r < 1 is reached the rest of the
+series is below the current term times r / (1 - r), which is added to the radius. When a
+series would need too many terms the incomplete gamma and beta functions of flint are
+used instead (also rigorous, slower near the bulk of the law).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+
+from flint import arb, ctx
+from mpmath import libmp
+
+from urnbound.core import reporting
+from urnbound.core.errors import NoConvergence
+from urnbound.core.precision import Real
+from urnbound.core.results import Magnitude
+
+#: Most terms of a ratio series before the library's special function is used instead.
+MAX_SERIES_TERMS = 400
+#: Counts up to this are turned into falling products; above it, log-gamma is used.
+MAX_PRODUCT_TERMS = 256
+
+
+@contextmanager
+def precision(bits: int) -> Iterator[None]:
+    """Run a block at ``bits`` bits of flint precision, restoring the previous setting."""
+    previous = ctx.prec
+    ctx.prec = bits
+    try:
+        yield
+    finally:
+        ctx.prec = previous
+
+
+def to_real(x: arb) -> Real:
+    """The midpoint of ``x`` as an mpmath ``libmp`` value (exact)."""
+    mantissa, exponent = x.mid().man_exp()
+    return libmp.from_man_exp(int(mantissa), int(exponent))
+
+
+def _radius_real(x: arb) -> Real:
+    mantissa, exponent = x.rad().man_exp()
+    return libmp.from_man_exp(int(mantissa), int(exponent))
+
+
+def relative_radius(x: arb) -> Real | None:
+    """e with |mid - x| <= e * x for every x in the ball, or ``None`` if the ball holds 0.
+
+    |mid - x| <= rad and x >= mid - rad > 0, so e = rad / (mid - rad), rounded upwards.
+
+    >>> with precision(80):
+    ...     libmp.to_float(relative_radius(arb(1) / 3)) < 2**-70
+    True
+    """
+    mid, rad = to_real(x), _radius_real(x)
+    low = libmp.mpf_sub(mid, rad, 64, libmp.round_floor)
+    if not libmp.mpf_lt(libmp.fzero, low):
+        return None
+    return libmp.mpf_div(rad, low, 64, libmp.round_ceiling)
+
+
+def magnitude(x: arb, log10: float | None = None) -> Magnitude | None:
+    """Report a positive ball: correctly rounded float when decided, text, log10, bound.
+
+    ``None`` when the ball is too wide to decide the float (the caller works at more bits).
+
+    >>> with precision(128):
+    ...     magnitude(arb(1) / 3).decimal
+    '3.3333333333333333333e-1'
+    """
+    error = relative_radius(x)
+    if error is None:
+        return None
+    return reporting.bounded_magnitude(to_real(x), error, log10)
+
+
+def widened(x: arb, radius: arb) -> arb:
+    """The ball ``x`` with ``radius`` (an upper bound, taken as such) added to its radius."""
+    return x + arb(0, radius.upper())
+
+
+def between(low: arb, high: arb) -> arb:
+    """The smallest ball holding both balls (and so everything between them)."""
+    return low.union(high)
+
+
+def relative_bits(x: arb) -> int:
+    """Bits of relative accuracy of a ball (negative when it holds 0)."""
+    return int(x.rel_accuracy_bits())
+
+
+# --- probability mass functions ------------------------------------------------------------
+
+
+def falling(top: arb, terms: int) -> arb:
+    """top (top - 1) ... (top - terms + 1) as a ball."""
+    result = arb(1)
+    for i in range(terms):
+        result *= top - i
+    return result
+
+
+def log_factorial(j: int) -> arb:
+    """ln j! as a ball."""
+    return arb(j + 1).lgamma()
+
+
+def poisson_pmf(j: int, mean: arb) -> arb:
+    """P(Poisson(mean) = j) = exp(-mean) mean**j / j!, for mean > 0.
+
+    >>> with precision(64):
+    ...     round(float(poisson_pmf(2, arb(1)).mid()), 12)
+    0.183939720586
+    """
+    if j == 0:
+        return (-mean).exp()
+    bits = ctx.prec + max(j, 2).bit_length() + 8
+    with precision(bits):
+        value = (j * mean.log() - mean - log_factorial(j)).exp()
+    return +value
+
+
+def binomial_pmf(trials: int, j: int, p: arb) -> arb:
+    """P(Binomial(trials, p) = j) for 0 < p < 1, 0 <= j <= trials, of any size.
+
+    C(n, j) is a falling product for small j and log-gamma otherwise, at extra bits that
+    cover the size of ln n!.
+    """
+    rest = (trials - j) * (-p).log1p()
+    if j <= MAX_PRODUCT_TERMS:
+        bits = ctx.prec + 16
+        with precision(bits):
+            value = falling(arb(trials), j) / arb(j).fac() * p**j * rest.exp()
+        return +value
+    bits = ctx.prec + 2 * max(trials, 2).bit_length() + 16
+    with precision(bits):
+        log_choose = log_factorial(trials) - log_factorial(j) - log_factorial(trials - j)
+        value = (log_choose + j * p.log() + (trials - j) * (-p).log1p()).exp()
+    return +value
+
+
+# --- tails -----------------------------------------------------------------------------------
+
+
+def _ratio_sum(first: arb, ratio_at: Callable[[int], arb], terms: int) -> arb | None:
+    """first * (1 + r1 + r1 r2 + ...) over at most ``terms`` ratios, with the tail in the radius.
+
+    ``ratio_at(i)`` is the i-th ratio (i >= 1), non-increasing in i and >= 0; ``None``
+    when the series would need more than MAX_SERIES_TERMS terms.
+    """
+    total = arb(1)
+    term = arb(1)
+    floor = arb(2) ** -(ctx.prec + 8)
+    for i in range(1, min(terms, MAX_SERIES_TERMS) + 1):
+        ratio = ratio_at(i)
+        term = term * ratio
+        total += term
+        if ratio.upper() < 0.5 and term.upper() < floor.lower():
+            tail = term * ratio / (1 - ratio)
+            return first * widened(total, tail)
+    if terms <= MAX_SERIES_TERMS:
+        return first * total
+    return None
+
+
+def poisson_at_least(k: int, mean: arb) -> arb:
+    """P(Poisson(mean) >= k), with its full relative accuracy when it is small.
+
+    >>> with precision(64):
+    ...     round(float(poisson_at_least(3, arb(1)).mid()), 12)
+    0.080301397071
+    """
+    if k <= 0:
+        return arb(1)
+    if mean.upper() < 0.5 * (k + 1):
+        found = _ratio_sum(poisson_pmf(k, mean), lambda i: mean / (k + i), 10**9)
+        if found is not None:
+            return found
+    return mean.gamma_lower(k, regularized=1)
+
+
+def poisson_below(a: int, mean: arb) -> arb:
+    """P(Poisson(mean) < a) = P(Poisson(mean) <= a - 1), full relative accuracy when small.
+
+    >>> with precision(64):
+    ...     round(float(poisson_below(1, arb(2)).mid()), 12)
+    0.135335283237
+    """
+    if a <= 0:
+        return arb(0)
+    if mean.lower() > 2 * a:
+        found = _ratio_sum(poisson_pmf(a - 1, mean), lambda i: (a - i) / mean, a - 1)
+        if found is not None:
+            return found
+    return mean.gamma_upper(a, regularized=1)
+
+
+def binomial_at_least(trials: int, p: arb, k: int) -> arb:
+    """P(Binomial(trials, p) >= k), full relative accuracy when small.
+
+    >>> with precision(64):
+    ...     float(binomial_at_least(3, arb(1) / 2, 2).mid())
+    0.5
+    """
+    if k <= 0:
+        return arb(1)
+    if k > trials:
+        return arb(0)
+    q = 1 - p
+    first_ratio = (trials - k) * p / ((k + 1) * q)
+    if first_ratio.upper() < 0.5:
+        found = _ratio_sum(binomial_pmf(trials, k, p),
+                           lambda i: (trials - k - i + 1) * p / ((k + i) * q), trials - k)
+        if found is not None:
+            return found
+    return p.beta_lower(k, trials - k + 1, regularized=1)
+
+
+def binomial_below(trials: int, p: arb, a: int) -> arb:
+    """P(Binomial(trials, p) < a), full relative accuracy when small.
+
+    >>> with precision(64):
+    ...     float(binomial_below(2, arb(1) / 2, 1).mid())
+    0.25
+    """
+    if a <= 0:
+        return arb(0)
+    if a > trials:
+        return arb(1)
+    q = 1 - p
+    top = a - 1
+    first_ratio = top * q / ((trials - top + 1) * p)
+    if first_ratio.upper() < 0.5:
+        found = _ratio_sum(binomial_pmf(trials, top, p),
+                           lambda i: (top - i + 1) * q / ((trials - top + i) * p), top)
+        if found is not None:
+            return found
+    return 1 - p.beta_lower(a, trials - a + 1, regularized=1)
+
+
+def require_bits(x: arb, bits: int, what: str) -> arb:
+    """``x`` if it has at least ``bits`` bits of relative accuracy, else NoConvergence."""
+    if relative_bits(x) < bits:
+        raise NoConvergence(f"{what} not resolved at this precision")
+    return x

@@ -1,0 +1,295 @@
+"""Saddle-point approximation of ln P(every bucket obeys a rule), in ball arithmetic.
+
+Notation: n items on N buckets, lambda = n / N, allowed counts S (below k, or at least a),
+A(z) = sum_{j in S} z**j / j!, and P = n! [z^n] A(z)**N / N**n.
+
+Exact identity. For any y > 0 let X_y be the law on S with P(X_y = j) ~ y**j / j!, that
+is Poisson(y) conditioned on S, and S_N the sum of N independent copies. Then
+[z^n] A**N = A(y)**N y**-n P(S_N = n). Comparing with the Poisson law, whose
+P(Poisson(n) = n) = e**-n n**n / n!, gives
+
+    ln P = N D(y) + ln P(S_N = n) - ln P(Poisson(n) = n),
+    D(y) = ln A(y) - lambda ln(y / lambda) - lambda.
+
+The saddle point y solves E X_y = lambda. There -D is the relative entropy of X_y to
+Poisson(lambda), and with w = P(Poisson(y) not in S), t = P(Poisson(y) = c) / (1 - w)
+(c = k - 1 below k, c = a - 1 at least a; sign s = -1 and +1):
+
+    lambda = y (1 + s t),   D = lambda (u - log1p(u)) + log1p(-w),   u = -s t / (1 + s t),
+    sigma**2 / lambda - 1 = s t (c - y - s y t) / (1 + s t).
+
+Every piece is proportional to w or t, so ln P keeps its relative accuracy when P is
+near 1 (the risk is then -expm1(ln P)). The cumulants of X_y are y + h_r with h_r
+polynomials in (y, t) from the operator y d/dy (y' = y, t' = t (c - y - s y t)).
+
+Expansion. The local Edgeworth expansion of a lattice sum at its mean,
+ln P(S_N = n) = -1/2 ln(2 pi N sigma**2) + G_1 + G_2 + G_3 + G_4 + ..., has G_i of
+order (N sigma**2)**-i, polynomials in the standardized cumulants (derived once with
+sympy: tests/core/test_saddle.py checks them against Stirling's series, which is the
+Poisson case, -1/(12 n), 0, 1/(360 n**3), 0). The same truncation of the Poisson side
+is subtracted, so both remainders cancel to first order in w:
+
+    ln P = N D - 1/2 log1p(sigma**2/lambda - 1) + (G_1 + 1/(12 n)) + G_2
+           + (G_3 - 1/(360 n**3)).
+
+Three correction terms are kept. The truncation is estimated by
+4 (|G_4| + |G_3 - 1/(360 n**3)| / (N sigma**2)), the next term with a margin for the
+one after it; this is an estimate, not a theorem, and the tests check it against exact
+values on a grid. The expansion is not used when N sigma**2 is below ``MIN_SPREAD``.
+Rounding is carried by the balls.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from flint import arb, ctx
+
+from urnbound.core import balls
+from urnbound.core.balls import precision
+from urnbound.core.errors import NoConvergence
+from urnbound.core.occupancy_results import Rule
+
+#: Smallest N sigma**2 (the spread of the sum) at which the expansion is used.
+MIN_SPREAD = 40
+#: Newton steps of the saddle point (it converges quadratically; the bound is a guard).
+MAX_NEWTON_STEPS = 60
+#: Highest cumulant needed (G_4 uses the tenth).
+TOP_CUMULANT = 10
+
+
+@dataclass(frozen=True, slots=True)
+class SaddleEstimate:
+    """ln P(every bucket obeys the rule), as a ball that includes the truncation estimate.
+
+    :ivar log_holds: the ball for ln P.
+    :ivar truncation: the estimated truncation error of ln P (absolute).
+    :ivar spread: N sigma**2, the expansion's large parameter.
+    :ivar prec: working precision in bits.
+    """
+
+    log_holds: arb
+    truncation: arb
+    spread: arb
+    prec: int
+
+
+def log_holds(buckets: int, count: int, rule: Rule, prec: int) -> SaddleEstimate | None:
+    """The saddle-point estimate at ``prec`` bits, or ``None`` where it is not used.
+
+    >>> e = log_holds(365, 88, Rule("below", 3), 96)
+    >>> round(float(e.log_holds.mid().exp()), 4)  # exact: 0.48893...
+    0.4889
+    """
+    with precision(prec):
+        mean = arb(count) / buckets
+        y = _saddle(mean, rule, prec)
+        return _estimate(buckets, count, rule, mean, y, prec)
+
+
+def _parts(y: arb, rule: Rule) -> tuple[arb, arb, arb]:
+    """(w, 1 - w, t) at y: the removed and kept Poisson masses, each summed from the side
+    where it is small, and the conditioned mass at the edge c."""
+    if rule.sign < 0:
+        small_removed = y.mid() < rule.level
+        tail = (balls.poisson_at_least(rule.level, y) if small_removed
+                else balls.poisson_below(rule.level, y))
+    else:
+        small_removed = y.mid() > rule.level
+        tail = (balls.poisson_below(rule.level, y) if small_removed
+                else balls.poisson_at_least(rule.level, y))
+    removed, kept = (tail, 1 - tail) if small_removed else (1 - tail, tail)
+    return removed, kept, balls.poisson_pmf(rule.edge, y) / kept
+
+
+def _spread_ratio(y: arb, t: arb, rule: Rule) -> arb:
+    """sigma**2 / lambda - 1 = s t (c - y - s y t) / (1 + s t)."""
+    s = rule.sign
+    return s * t * (rule.edge - y - s * y * t) / (1 + s * t)
+
+
+def _saddle(mean: arb, rule: Rule, prec: int) -> arb:
+    """y with E X_y = lambda: Newton on ln y at 64 bits, then polished at ``prec`` bits.
+
+    d(E X_y)/d(ln y) = sigma**2 > 0, so E X_y rises with y: a bracket in ln y is kept,
+    and a step that would leave it bisects instead (or moves by 2 while one side is open).
+    """
+    low: float | None = None
+    high: float | None = None
+    with precision(64):
+        log_y = float(mean.log().mid())
+        for _ in range(MAX_NEWTON_STEPS):
+            gap, variance = _gap(arb(log_y).exp(), mean, rule)
+            if float(gap.mid()) > 0:
+                high = log_y
+            else:
+                low = log_y
+            move = float((gap / variance).mid())
+            candidate = log_y - move
+            if abs(move) < 2.0**-40:
+                return _polish(arb(candidate), mean, rule, prec)
+            if low is not None and high is not None and not low < candidate < high:
+                candidate = (low + high) / 2
+            elif (low is not None and candidate <= low) or (high is not None and candidate >= high):
+                candidate = log_y + (2.0 if high is None else -2.0)
+            log_y = candidate
+    raise NoConvergence("the saddle point did not settle")
+
+
+def _gap(y: arb, mean: arb, rule: Rule) -> tuple[arb, arb]:
+    """(E X_y - lambda, sigma**2 = d E X_y / d ln y) at y, the latter at extra bits."""
+    with precision(ctx.prec + _extra_bits(y, rule)):
+        _, _, t = _parts(y, rule)
+        expected = y * (1 + rule.sign * t)
+        gap, variance = expected - mean, expected * (1 + _spread_ratio(y, t, rule))
+    return +gap, +variance
+
+
+def _extra_bits(y: arb, rule: Rule) -> int:
+    """Bits lost to cancellation in sigma**2 and the cumulants near a full filling.
+
+    Where the conditioned law sits at the edge of S (y far above k, or far below a),
+    sigma**2 / lambda is about k / y or y / a, formed as a difference of terms of size
+    1: up to three times log2 of that ratio cancel (1 - t, k - 1 - lambda and
+    sigma**2 / lambda each lose about as much); four times is kept.
+    """
+    if rule.sign < 0:
+        far = _exponent(y) - rule.level.bit_length()
+    else:
+        far = rule.level.bit_length() - _exponent(y)
+    return 4 * max(0, far + 1) + 16
+
+
+def _polish(log_y: arb, mean: arb, rule: Rule, prec: int) -> arb:
+    """Newton steps at ``prec`` bits from a 64-bit saddle point (two or three suffice)."""
+    with precision(prec):
+        for _ in range(MAX_NEWTON_STEPS):
+            gap, variance = _gap(log_y.exp(), mean, rule)
+            move = gap / variance
+            log_y = arb((log_y - move).mid())
+            if abs(float(move.mid())) < 2.0 ** (16 - prec):
+                return arb(log_y.exp().mid())  # an exact point: no radius to amplify
+    raise NoConvergence("the saddle point did not settle at full precision")
+
+
+def _estimate(buckets: int, count: int, rule: Rule, mean: arb, y: arb,
+              prec: int) -> SaddleEstimate | None:
+    with precision(prec + _extra_bits(y, rule)):
+        return _estimate_at(buckets, count, rule, mean, y, ctx.prec)
+
+
+def _estimate_at(buckets: int, count: int, rule: Rule, mean: arb, y: arb,
+                 prec: int) -> SaddleEstimate | None:
+    s = rule.sign
+    removed, kept, t = _parts(y, rule)
+    ratio = _spread_ratio(y, t, rule)
+    spread = buckets * mean * (1 + ratio)
+    if spread.upper() < MIN_SPREAD or not spread.lower() > MIN_SPREAD:
+        return None
+    u = -s * t / (1 + s * t)
+    entropy = mean * _u_minus_log1p(u)
+    log_kept = (-removed).log1p() if removed.mid() < 0.5 else kept.log()
+    divergence = buckets * (entropy + log_kept)
+    corrections, truncation = _corrections(buckets, count, y, t, rule, spread, prec)
+    value = divergence - ratio.log1p() / 2 + corrections
+    return SaddleEstimate(balls.widened(value, truncation), truncation, spread, prec)
+
+
+def _u_minus_log1p(u: arb) -> arb:
+    """u - log1p(u) with its relative accuracy for small |u|: u**2/2 - u**3/3 + ...
+
+    For |u| < 2**-16 the series alternates with falling terms, so the first omitted term
+    bounds the rest (added to the radius); otherwise the closed form at 40 extra bits.
+    """
+    if _exponent(u) > -16:
+        with precision(ctx.prec + 40):
+            value = u - u.log1p()
+        return +value
+    total = arb(0)
+    power = u
+    floor = arb(2) ** -(ctx.prec + 8)
+    for j in range(2, 4 * ctx.prec):
+        power = power * u
+        term = power / j
+        total += term if j % 2 == 0 else -term
+        if abs(term).upper() < (floor * abs(total)).lower():
+            return balls.widened(total, abs(power * u / (j + 1)))
+    raise NoConvergence("the series of u - log1p(u) did not converge")
+
+
+def _exponent(x: arb) -> int:
+    """e with |x| about 2**e (a very negative number for 0)."""
+    mantissa, exponent = x.mid().man_exp()
+    if int(mantissa) == 0:
+        return -(10**6)
+    return int(exponent) + int(mantissa).bit_length()
+
+
+def _corrections(buckets: int, count: int, y: arb, t: arb, rule: Rule, spread: arb,
+                 prec: int) -> tuple[arb, arb]:
+    """(G_1 + 1/(12n)) + G_2 + (G_3 - 1/(360 n**3)), and the truncation estimate."""
+    scale = max(int(float(y.mid())) + 1, rule.level + 1).bit_length()
+    with precision(prec + TOP_CUMULANT * scale + 32):
+        _, _, t = _parts(y, rule)
+        kappas = _cumulants(y, t, rule)
+        variance = kappas[2]
+        unit = buckets * variance
+        scaled = {r: buckets * kappas[r] / unit ** (arb(r) / 2) for r in range(3, TOP_CUMULANT + 1)}
+        g1, g2, g3, g4 = _edgeworth(scaled)
+        n = arb(count)
+        first = g1 + 1 / (12 * n)
+        third = g3 - 1 / (360 * n**3)
+        truncation = 4 * (abs(g4) + abs(third) / spread)
+        total = first + g2 + third
+    return +total, +truncation
+
+
+def _cumulants(y: arb, t: arb, rule: Rule) -> dict[int, arb]:
+    """kappa_1 .. kappa_10 of X_y, from the polynomials in (y, t) of the module docstring."""
+    s, c = rule.sign, rule.edge
+    poly: dict[tuple[int, int], int] = {(1, 0): 1, (1, 1): s}
+    found: dict[int, arb] = {}
+    powers_y = [arb(1)]
+    powers_t = [arb(1)]
+    for r in range(1, TOP_CUMULANT + 1):
+        while len(powers_y) <= r + 1:
+            powers_y.append(powers_y[-1] * y)
+        while len(powers_t) <= r + 1:
+            powers_t.append(powers_t[-1] * t)
+        found[r] = sum((coefficient * powers_y[i] * powers_t[j]
+                        for (i, j), coefficient in poly.items()), arb(0))
+        poly = _derivative(poly, s, c)
+    return found
+
+
+def _derivative(poly: dict[tuple[int, int], int], s: int, c: int) -> dict[tuple[int, int], int]:
+    """y d/dy of a polynomial in (y, t): y**i t**j -> (i + j c) y**i t**j - j y**(i+1) t**j
+    - s j y**(i+1) t**(j+1)."""
+    out: dict[tuple[int, int], int] = {}
+    for (i, j), coefficient in poly.items():
+        for key, factor in (((i, j), i + j * c), ((i + 1, j), -j), ((i + 1, j + 1), -s * j)):
+            if factor:
+                out[key] = out.get(key, 0) + coefficient * factor
+    return {key: value for key, value in out.items() if value}
+
+
+def _edgeworth(scaled: dict[int, arb]) -> tuple[arb, arb, arb, arb]:
+    """G_1 .. G_4 from the scaled standardized cumulants l_r = N kappa_r / (N sigma**2)**(r/2).
+
+    Coefficients of ln of the Edgeworth series at the mean (module docstring).
+    """
+    l3, l4, l5, l6, l7, l8, l9, l10 = (scaled[r] for r in range(3, 11))
+    g1 = l4 / 8 - 5 * l3**2 / 24
+    g2 = (5 * l3**4 / 16 - 25 * l3**2 * l4 / 48 + 7 * l3 * l5 / 48 + l4**2 / 12 - l6 / 48)
+    g3 = (-1105 * l3**6 / 1152 + 985 * l3**4 * l4 / 384 - 161 * l3**3 * l5 / 192
+          - 445 * l3**2 * l4**2 / 288 + 113 * l3**2 * l6 / 576 + 7 * l3 * l4 * l5 / 12
+          - l3 * l7 / 32 + 11 * l4**3 / 96 - 5 * l4 * l6 / 96 - 21 * l5**2 / 640 + l8 / 384)
+    g4 = (-l10 / 3840 + 565 * l3**8 / 128 - 12455 * l3**6 * l4 / 768
+          + 4319 * l3**5 * l5 / 768 + 40205 * l3**4 * l4**2 / 2304 - 1145 * l3**4 * l6 / 768
+          - 10283 * l3**3 * l4 * l5 / 1152 + 175 * l3**3 * l7 / 576
+          - 1585 * l3**2 * l4**3 / 288 + 1823 * l3**2 * l4 * l6 / 1152
+          + 553 * l3**2 * l5**2 / 576 - 53 * l3**2 * l8 / 1152 + 679 * l3 * l4**2 * l5 / 288
+          - 35 * l3 * l4 * l7 / 192 - 371 * l3 * l5 * l6 / 1440 + 11 * l3 * l9 / 2304
+          + 17 * l4**4 / 72 - 89 * l4**2 * l6 / 576 - 49 * l4 * l5**2 / 256 + l4 * l8 / 96
+          + 11 * l5 * l7 / 640 + 113 * l6**2 / 11520)
+    return g1, g2, g3, g4
