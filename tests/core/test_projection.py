@@ -265,3 +265,20 @@ def test_capacity_used_is_issued_over_capacity() -> None:
     assert float(f"{projection.capacity.count:.1e}") == 6.1e6
     assert projection.capacity_used == Fraction(3 * 10**6, projection.capacity.count)
     assert projection.headroom == projection.capacity.count - 3 * 10**6
+
+
+@pytest.mark.parametrize("schedule", [
+    IssueSchedule(0, Fraction(10**39), Fraction(10)),  # 1e30 per ns, ten times a year
+    IssueSchedule(10**2000, Fraction(10**39), Fraction(10)),
+    IssueSchedule(0, Fraction(10**39), Fraction(1, 10**7)),
+    IssueSchedule(0, Fraction(1, 10**9 * 1000 * YEAR_SECONDS), 1 + Fraction(1, 10**22)),
+])
+def test_extreme_schedules_are_answered_and_counted_exactly(schedule: IssueSchedule) -> None:
+    horizon = Fraction(1000 * YEAR_SECONDS)
+    projection = project_budget(2**8192, schedule, horizon, Fraction(1, 10**300), 3)
+    for point in projection.series:
+        assert point.count == reference_count(schedule, point.seconds)
+    if projection.exhausted is not None and not projection.exhausted.already:
+        assert projection.exhausted.before is not None
+        assert projection.exhausted.before.count <= projection.capacity.count
+        assert projection.exhausted.at.count > projection.capacity.count

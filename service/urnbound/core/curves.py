@@ -2,7 +2,8 @@
 
 The counts are sample points, not answers: they are formed once, rounded to whole
 numbers, and each risk is then computed at its count exactly as ``/v1/collisions`` would
-(``pairwise.collision_risk``). Log spacing places count i of k at
+(``pairwise.collision_risk``), with the exact path up to ``SERIES_EXACT_DIGIT_LIMIT``
+digits so that 500 counts cost what a few answers do. Log spacing places count i of k at
 low (high/low)^(i/(k-1)), rounded to nearest, worked in binary at the bits of ``high``
 plus 32 so that every count of any size is placed to within one; even spacing places it
 at low + floor((high - low) i / (k - 1)) in integers. Counts that round to the same
@@ -19,7 +20,7 @@ from mpmath import libmp
 
 from urnbound.core import precision as mp
 from urnbound.core.errors import DomainError
-from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT
+from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, SERIES_EXACT_DIGIT_LIMIT
 from urnbound.core.pairwise import collision_risk
 from urnbound.core.results import CollisionRisk
 
@@ -94,6 +95,7 @@ def risk_curve(
     ((10, 40, 70), ['1.1694', '8.9123', '9.9915'])
     """
     counts = curve_counts(low, high, points, spacing)
-    risks = tuple(collision_risk(size, n, exact_digit_limit=exact_digit_limit) for n in counts)
+    limit = min(exact_digit_limit, SERIES_EXACT_DIGIT_LIMIT)
+    risks = tuple(collision_risk(size, n, exact_digit_limit=limit) for n in counts)
     methods = tuple(dict.fromkeys(r.method for r in risks))
     return RiskCurve(size, counts, risks, methods)

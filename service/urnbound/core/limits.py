@@ -54,3 +54,6 @@ MAX_GROWTH = 10
 MIN_POINTS = 2
 DEFAULT_POINTS = 50
 MAX_POINTS = 500
+#: Exact-path cost limit (digits of N**n) of each point of a series or a curve: above it a
+#: point takes the expansion with its bound, so that 500 points cost what a few answers do.
+SERIES_EXACT_DIGIT_LIMIT = 2_000

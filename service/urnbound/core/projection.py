@@ -45,7 +45,7 @@ from mpmath.libmp import libmpi
 from urnbound.core import precision as mp
 from urnbound.core.errors import DomainError, NoConvergence
 from urnbound.core.inverse import CountFamily, largest_count
-from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT
+from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, SERIES_EXACT_DIGIT_LIMIT
 from urnbound.core.pairwise import collision_risk
 from urnbound.core.precision import Real
 from urnbound.core.results import CapacityAnswer, CollisionRisk
@@ -89,8 +89,12 @@ class IssueSchedule:
         if self.growth <= 0:
             raise DomainError("growth must be above 0", field="growth")
 
-    def count_at(self, seconds: Fraction) -> int:
-        """n(t) = floor(c(t)): the identifiers issued by ``seconds`` (>= 0), exactly."""
+    def count_at(self, seconds: Fraction, first_bits: int | None = None) -> int:
+        """n(t) = floor(c(t)): the identifiers issued by ``seconds`` (>= 0), exactly.
+
+        :param first_bits: the precision of the first enclosure (default: from the size of
+            c(t)); a projection passes that of its horizon for every earlier moment.
+        """
         if seconds < 0:
             raise DomainError("a moment before now", field="horizon")
         if seconds == 0:
@@ -98,13 +102,13 @@ class IssueSchedule:
         if self.growth == 1:
             return math.floor(self.issued + self.rate * seconds)
         return _settled(lambda prec: _floor_if_decided(self._enclosure(seconds, prec)),
-                        self._first_bits(seconds))
+                        first_bits or self.first_bits(seconds))
 
     def reaches(self, seconds: Fraction, target: int) -> bool:
         """c(t) >= target, decided with certainty (n(t) >= target is the same test)."""
         return self.count_at(seconds) >= target
 
-    def _first_bits(self, seconds: Fraction) -> int:
+    def first_bits(self, seconds: Fraction) -> int:
         """Bits of c(t), plus those ln g loses near g = 1, plus guard; a multiple of 64.
 
         (phi is evaluated with expm1, which keeps its relative accuracy at tiny x.)
@@ -115,9 +119,9 @@ class IssueSchedule:
 
     def log2_count(self, seconds: Fraction) -> float:
         """log2 c(t), roughly (floats; for precisions and guesses only)."""
-        linear = _log2(self.rate * seconds)
+        linear = _log2(self.rate) + _log2(seconds)
         if self.growth != 1:
-            x = float(Fraction(seconds, YEAR_SECONDS)) * _ln(self.growth)
+            x = 2.0 ** (_log2(seconds) - math.log2(YEAR_SECONDS)) * _ln(self.growth)
             linear += _log2_phi(x)
         if self.issued == 0:
             return linear
@@ -128,26 +132,54 @@ class IssueSchedule:
     def _enclosure(self, seconds: Fraction, prec: int) -> Interval:
         """An interval holding c(t) for t > 0, g != 1 (module docstring)."""
         log_growth = _log_growth(self.growth.numerator, self.growth.denominator, prec)
-        x = libmpi.mpi_mul(_enclose(Fraction(seconds, YEAR_SECONDS), prec), log_growth, prec)
+        years = _enclose_ratio(seconds.numerator, seconds.denominator * YEAR_SECONDS, prec)
+        x = libmpi.mpi_mul(years, log_growth, prec)
         phi = (_phi(x[0], prec, libmp.round_floor), _phi(x[1], prec, libmp.round_ceiling))
-        linear = libmpi.mpi_mul(_enclose(self.rate * seconds, prec), phi, prec)
-        low, high = libmpi.mpi_add(linear, _enclose(Fraction(self.issued), prec), prec)
+        linear = _enclose_ratio(self.rate.numerator * seconds.numerator,
+                                self.rate.denominator * seconds.denominator, prec)
+        # phi > 0 and rate t > 0: the product's ends are the products of the ends.
+        low = libmp.mpf_mul(linear[0], phi[0], prec, libmp.round_floor)
+        high = libmp.mpf_mul(linear[1], phi[1], prec, libmp.round_ceiling)
+        if self.issued:
+            low = libmp.mpf_add(low, libmp.from_int(self.issued), prec, libmp.round_floor)
+            high = libmp.mpf_add(high, libmp.from_int(self.issued), prec, libmp.round_ceiling)
         return low, high
 
     def first_second_reaching(self, target: int) -> int:
-        """A float guess of the first whole second t with c(t) >= target (never trusted)."""
+        """A float guess of the first whole second t with c(t) >= target (never trusted).
+
+        Solved in logarithms, so that no float overflows: with growth g,
+        rate Y (g^(t/Y) - 1) / ln g = missing gives t = Y ln(1 + s) / ln g for
+        s = missing ln g / (rate Y); a shrinking rate with s <= -1 never gets there.
+        """
         missing = target - self.issued
         if missing <= 0:
             return 0
-        if self.growth == 1:
-            return math.ceil(Fraction(missing) / self.rate)
+        log_steady = _ln(Fraction(missing)) - _ln(self.rate)  # ln(missing / rate)
         log_g = _ln(self.growth)
-        # rate Y (g^(t/Y) - 1) / ln g = missing  =>  t = Y ln(1 + missing ln g / (rate Y)) / ln g
-        scaled = math.exp(_ln(Fraction(missing)) - _ln(self.rate * YEAR_SECONDS)) * log_g
-        if scaled <= -1:
-            return 2**62  # a shrinking rate that never gets there
-        inside = math.log1p(scaled) if abs(scaled) < 1e300 else math.log(abs(scaled))
-        return max(0, math.ceil(YEAR_SECONDS * inside / log_g))
+        if self.growth == 1 or abs(log_g) < 1e-12:
+            return _whole_seconds(log_steady)
+        log_s = log_steady - math.log(YEAR_SECONDS) + math.log(abs(log_g))  # ln |s|
+        if log_s < -700:  # the rate barely changes before then
+            return _whole_seconds(log_steady)
+        if log_g < 0 and log_s >= 0:
+            return _NEVER
+        if log_s > 30:
+            inside = log_s + math.log1p(math.exp(-log_s))
+        else:
+            inside = math.log1p(math.copysign(math.exp(log_s), log_g))
+        return _whole_seconds(math.log(YEAR_SECONDS * inside / log_g))
+
+
+#: A guess for a moment that never comes (the search clamps it to its range).
+_NEVER = 2**62
+
+
+def _whole_seconds(log_seconds: float) -> int:
+    """ceil(e**log_seconds), clamped to [0, _NEVER]."""
+    if log_seconds > math.log(_NEVER):
+        return _NEVER
+    return max(0, math.ceil(math.exp(log_seconds)))
 
 
 @functools.lru_cache(maxsize=64)
@@ -179,9 +211,13 @@ def _floor_if_decided(interval: Interval) -> int | None:
 
 def _enclose(value: Fraction, prec: int) -> Interval:
     """``value`` rounded down and up to ``prec`` bits."""
-    p, q = value.numerator, value.denominator
-    return (libmp.from_rational(p, q, prec, libmp.round_floor),
-            libmp.from_rational(p, q, prec, libmp.round_ceiling))
+    return _enclose_ratio(value.numerator, value.denominator, prec)
+
+
+def _enclose_ratio(numerator: int, denominator: int, prec: int) -> Interval:
+    """numerator / denominator (> 0) rounded down and up to ``prec`` bits."""
+    return (libmp.from_rational(numerator, denominator, prec, libmp.round_floor),
+            libmp.from_rational(numerator, denominator, prec, libmp.round_ceiling))
 
 
 def _margin(value: Real, prec: int) -> Real:
@@ -321,6 +357,10 @@ def project_budget(
 ) -> BudgetProjection:
     """The risk now, at the horizon and at ``points`` moments between; when it runs out.
 
+    Each moment's risk takes the exact path only up to ``SERIES_EXACT_DIGIT_LIMIT`` digits
+    (the expansion, with its bound, above), so that 500 moments cost what a few answers
+    do; the capacity and the search keep ``exact_digit_limit``.
+
     >>> p = project_budget(2**64, IssueSchedule(0, Fraction(1000)), Fraction(86400 * 365),
     ...                    Fraction(1, 10**6), 3)
     >>> p.capacity.count, p.exhausted.seconds, p.exhausted.before.count, p.exhausted.at.count
@@ -329,12 +369,15 @@ def project_budget(
     if horizon <= 0:
         raise DomainError("horizon must be above 0", field="horizon")
     risks: dict[int, CollisionRisk] = {}
+    point_limit = min(exact_digit_limit, SERIES_EXACT_DIGIT_LIMIT)
+
+    bits = schedule.first_bits(horizon) if schedule.growth != 1 else None  # c(t) <= c(H)
 
     def point(seconds: Fraction) -> ProjectedPoint:
-        count = schedule.count_at(seconds)
+        count = schedule.count_at(seconds, bits)
         risk = risks.get(count)
         if risk is None:
-            risk = risks[count] = collision_risk(size, count, exact_digit_limit=exact_digit_limit)
+            risk = risks[count] = collision_risk(size, count, exact_digit_limit=point_limit)
         return ProjectedPoint(seconds, count, risk)
 
     capacity = largest_count(size, max_risk, exact_digit_limit=exact_digit_limit)
