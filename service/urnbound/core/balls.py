@@ -189,7 +189,11 @@ def poisson_at_least(k: int, mean: arb) -> arb:
         found = _ratio_sum(poisson_pmf(k, mean), lambda i: mean / (k + i), 10**9)
         if found is not None:
             return found
-    return mean.gamma_lower(k, regularized=1)
+    # flint's regularized lower gamma is not reliable here (it may return an unbounded
+    # ball); the upper one is, and the difference loses only the bits the ball shows.
+    with precision(ctx.prec + 32):
+        value = 1 - mean.gamma_upper(k, regularized=1)
+    return +value
 
 
 def poisson_below(a: int, mean: arb) -> arb:

@@ -1,0 +1,176 @@
+"""Expected counts of the occupancy model: empty, used and loaded buckets, k-sets, N H_N.
+
+Each figure is an expectation over one bucket times N (linearity), so it needs only the
+binomial law of one bucket's count, Binomial(n, 1/N). Figures are exact fractions,
+correctly rounded, when their terms are small (``EXACT_BITS``), else arb balls whose
+radius is the proven bound.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+from fractions import Fraction
+from functools import partial
+
+import gmpy2
+from flint import arb
+
+from urnbound.core import balls
+from urnbound.core.balls import precision
+from urnbound.core.errors import NoConvergence
+from urnbound.core.exact import magnitude_of_fraction
+from urnbound.core.occupancy import ball_magnitude
+from urnbound.core.results import Magnitude
+
+#: Exact fractions are formed when their terms have at most this many bits.
+EXACT_BITS = 20_000
+#: Largest N for which N H_N is formed as an exact fraction.
+EXACT_HARMONIC = 2_000
+#: Most rows of a load profile.
+MAX_PROFILE_ROWS = 64
+#: Working precision of the ball figures, and how often it is doubled.
+FIGURE_BITS = 128
+TRIES = 3
+
+
+@dataclass(frozen=True, slots=True)
+class ProfileRow:
+    """The expected number of buckets that hold exactly ``load`` items."""
+
+    load: int
+    buckets: Magnitude
+
+
+def _from_ball(compute: Callable[[], arb]) -> Magnitude:
+    """Report a ball computed by ``compute``, at doubled precision until decided."""
+    bits = FIGURE_BITS
+    for _ in range(TRIES):
+        with precision(bits):
+            value = compute()
+            if value.is_zero():
+                return Magnitude(0.0, "0", None)
+            found = ball_magnitude(value)
+        if found is not None:
+            return found
+        bits *= 2
+    raise NoConvergence("an expected count was not resolved")
+
+
+def expected_empty(buckets: int, count: int) -> Magnitude:
+    """N (1 - 1/N)**n: buckets that no item falls on.
+
+    >>> expected_empty(2, 2).decimal
+    '5.0000000000000000000e-1'
+    """
+    if count * max(buckets, 2).bit_length() <= EXACT_BITS:
+        return magnitude_of_fraction((buckets - 1) ** count * buckets, buckets**count)
+    return _from_ball(lambda: buckets * (count * (-arb(1) / buckets).log1p()).exp())
+
+
+def expected_used(buckets: int, count: int) -> Magnitude:
+    """N (1 - (1 - 1/N)**n): buckets used at least once.
+
+    >>> expected_used(2, 2).decimal
+    '1.5000000000000000000e0'
+    """
+    if count * max(buckets, 2).bit_length() <= EXACT_BITS:
+        total = buckets**count
+        return magnitude_of_fraction((total - (buckets - 1) ** count) * buckets, total)
+    return _from_ball(lambda: -buckets * (count * (-arb(1) / buckets).log1p()).expm1())
+
+
+def expected_at_least(buckets: int, count: int, load: int) -> Magnitude:
+    """N P(Binomial(n, 1/N) >= k): buckets holding at least k items.
+
+    >>> expected_at_least(365, 23, 2).decimal[:8]
+    '6.671028'
+    """
+    if load <= 0:
+        return magnitude_of_fraction(buckets, 1)
+    if load > count:
+        return Magnitude(0.0, "0", None)
+    return _from_ball(lambda: buckets * balls.binomial_at_least(count, arb(1) / buckets, load))
+
+
+def expected_sets(buckets: int, count: int, size: int) -> Magnitude:
+    """C(n, k) / N**(k-1): expected number of k-sets of items that share a bucket.
+
+    >>> expected_sets(365, 23, 2).decimal
+    '6.9315068493150684932e-1'
+    """
+    if count < size:
+        return Magnitude(0.0, "0", None)
+    if size * (max(count, 2).bit_length() + max(buckets, 2).bit_length()) <= EXACT_BITS:
+        return magnitude_of_fraction(int(gmpy2.comb(count, size)), buckets ** (size - 1))
+    return _from_ball(lambda: balls.falling(arb(count), size) / arb(size).fac()
+                      / arb(buckets) ** (size - 1))
+
+
+def expected_draws_to_cover(buckets: int) -> Magnitude:
+    """N H_N = N (1 + 1/2 + ... + 1/N): expected draws until every bucket is used.
+
+    >>> expected_draws_to_cover(50).decimal
+    '2.2496026691647125288e2'
+    """
+    if buckets <= EXACT_HARMONIC:
+        harmonic = sum((Fraction(1, j) for j in range(1, buckets + 1)), Fraction(0))
+        total = buckets * harmonic
+        return magnitude_of_fraction(total.numerator, total.denominator)
+    return _from_ball(lambda: buckets * ((arb(buckets) + 1).digamma() + arb.const_euler()))
+
+
+def likely_maximum(buckets: int, count: int) -> int:
+    """The smallest j with N P(Binomial(n, 1/N) > j) < 1/2 (an estimate, in floats).
+
+    Found by bisection over j on a float estimate of the tail; it only places the rows
+    of the load profile, whose figures are computed with their bounds.
+
+    >>> likely_maximum(365, 23)
+    2
+    """
+    if count == 0:
+        return 0
+    low, high = 0, count  # N P(> count) = 0 < 1/2
+    for _ in range(count.bit_length() + 2):
+        if high - low <= 1:
+            break
+        middle = (low + high) // 2
+        if _log_expected_above(buckets, count, middle) < math.log(0.5):
+            high = middle
+        else:
+            low = middle
+    return high if _log_expected_above(buckets, count, low) >= math.log(0.5) else low
+
+
+def _log_expected_above(buckets: int, count: int, j: int) -> float:
+    """ln(N P(Binomial(n, 1/N) > j)), roughly: the first term and a geometric tail."""
+    if j >= count:
+        return -math.inf
+    p = 1.0 / buckets
+    k = j + 1
+    log_pmf = (math.lgamma(count + 1) - math.lgamma(k + 1) - math.lgamma(count - k + 1)
+               + k * math.log(p) + (count - k) * math.log1p(-p))
+    ratio = (count - k) * p / ((k + 1) * (1 - p))
+    tail = -math.log1p(-ratio) if ratio < 1 else 0.5 * math.log(2 * math.pi * count * p + 1)
+    return math.log(buckets) + log_pmf + tail
+
+
+def load_profile(buckets: int, count: int) -> tuple[ProfileRow, ...]:
+    """Expected buckets holding exactly j items, j up to the likely maximum.
+
+    At most MAX_PROFILE_ROWS rows, the last at the likely maximum.
+
+    >>> [row.buckets.decimal[:6] for row in load_profile(365, 23)]
+    ['3.4268', '2.1652', '6.5434']
+    """
+    top = likely_maximum(buckets, count)
+    start = max(0, top - MAX_PROFILE_ROWS + 1)
+    return tuple(ProfileRow(j, _from_ball(partial(_bucket_share, buckets, count, j)))
+                 for j in range(start, top + 1))
+
+
+def _bucket_share(buckets: int, count: int, load: int) -> arb:
+    """N P(Binomial(n, 1/N) = j)."""
+    return buckets * balls.binomial_pmf(count, load, arb(1) / buckets)
