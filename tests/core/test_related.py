@@ -246,3 +246,45 @@ def test_reciprocal_risk_stays_within_its_bound_on_the_asymptotic_path(
     exact_value = ref.mp.exp(-ref.ln_risk)
     assert rounding_is_settled(ref.mp, exact_value, 40)
     assert reciprocal.value == nearest_float(exact_value), reciprocal
+
+
+# --- saturation: every value all but surely used -------------------------------------------
+
+
+@pytest.mark.parametrize(("size", "count"), [
+    (2, 56_065_531_834_126_054),  # n - N = 4 (2**53 + ...) + ...: a float midpoint; was a 500
+    (2, 2**60 + 2 + 2**6),  # n - N = 2**60 + 2**6: a float midpoint (ulp 2**8)
+    (3, 10**30 + 3),  # n - N = 10**30 exactly, a 20-digit text tie candidate
+    (2**64, 2**64 * 200 + 1),
+    (2**64, 2**64 * 94 + 2**64 // 2),  # just past the saturation threshold 0.7 (65 + 70)
+    (10**6 + 3, (10**6 + 3) * 10**9),
+])
+def test_saturated_figures_round_as_the_true_values(size: int, count: int) -> None:
+    # reference: Python's exact rational rounding (Fraction -> float, half to even) of
+    # v + t and N - t for a positive t below v 2**-68: the true excess N (1 - 1/N)**n is
+    # below 2**-70 here (n/N >= 0.7 (log2 N + 70)), so every such t rounds as the truth does
+    ours = figures(size, count)
+    tiny = Fraction(1, 2**150)
+    duplicates = Fraction(count - size) + tiny
+    distinct = Fraction(size) - tiny
+    assert ours.expected_duplicates.value == float(duplicates)
+    assert ours.expected_distinct.value == float(distinct)
+    for mag, value in ((ours.expected_duplicates, duplicates), (ours.expected_distinct, distinct)):
+        parsed = parse_decimal(mag.decimal)
+        assert (parsed.mantissa, parsed.exponent) in rounded_candidates(value), mag
+
+
+def test_a_float_tie_just_short_of_saturation_is_decided_by_precision() -> None:
+    # n - N = (2m + 1) 2**17 near 89 * 2**64, with m even: exactly halfway between the
+    # floats m 2**18 and (m + 1) 2**18 (half to even would pick the first); the true excess
+    # N (1 - 1/N)**n ~ 2**-66 > 0 breaks the tie upwards, which some 140 bits decide
+    # reference: Python's exact rational rounding of (n - N) + t for any 0 < t < 2**-70
+    size = 2**64
+    excess = (2 * (89 * 2**46) + 1) << 17
+    count = size + excess
+    assert not 10 * count >= 7 * size * (size.bit_length() + 70)  # not saturated
+    ours = figures(size, count)
+    truth = Fraction(excess) + Fraction(1, 2**80)
+    assert ours.expected_duplicates.value == float(truth) != float(excess)
+    parsed = parse_decimal(ours.expected_duplicates.decimal)
+    assert (parsed.mantissa, parsed.exponent) in rounded_candidates(truth)

@@ -33,8 +33,9 @@ from urnbound.core.results import ASYMPTOTIC, EXACT, CollisionRisk, Magnitude, R
 
 #: Computations of one figure, doubling its bits each time, before its float is given up.
 ROUNDING_TRIES = 4
-#: Most bits of the last-resort expansion (a few ms at N = 2**8192), past the doublings.
-WIDEST_BITS = 8192
+#: Most bits of the last-resort evaluations (under 15 ms each at N = 2**8192), past the
+#: doublings: enough for any tie the expected counts can meet short of saturation.
+WIDEST_BITS = 16384
 #: Largest exact cost (digits of N**n) of the exact fallback for an undecided rounding.
 FALLBACK_EXACT_DIGITS = DEFAULT_EXACT_DIGIT_LIMIT
 #: First working precision of the expected-value figures.
@@ -239,6 +240,8 @@ def _expected_distinct_and_duplicates(size: int, count: int) -> tuple[Magnitude,
     """
     if count <= 1 or size == 1 or exact_cost_digits(size, count) <= EXACT_FIGURES_DIGITS:
         return _exact_figures(size, count)
+    if _saturated(size, count):
+        return _saturated_figures(size, count)
 
     def attempt(prec: int) -> tuple[Magnitude, Magnitude] | None:
         if _ratio_gap(size, count) >= MIN_SERIES_GAP:
@@ -258,6 +261,34 @@ def _expected_distinct_and_duplicates(size: int, count: int) -> tuple[Magnitude,
     if found is None:
         raise NoConvergence("an expected count lies too close to a rounding boundary")
     return found
+
+
+def _saturated(size: int, count: int) -> bool:
+    """n/N >= 0.7 (log2 N + 70): then e = N (1 - 1/N)**n <= N exp(-n/N) < 2**-70.
+
+    (1.4427 * 0.7 > 1.0098, so log2 e <= log2 N - 1.0098 (log2 N + 70) < -70.) Below it,
+    e is above 2**-70 and a tie next to it is decided by at most 70 + log2 n + 40 bits,
+    within the doublings up to WIDEST_BITS.
+    """
+    return 10 * count >= 7 * size * (size.bit_length() + 70)
+
+
+def _saturated_figures(size: int, count: int) -> tuple[Magnitude, Magnitude]:
+    """distinct = N - e and duplicates = n - N + e, e = N (1 - 1/N)**n, for n/N that large.
+
+    There (``_saturated``) e < 2**-70. An integer v >= 1 (here N or
+    n - N) is at least v 2**-68 from every rounding boundary of a float or of 20-digit
+    text other than v itself (half a float step is v 2**-54 or more, half a unit in the
+    20th digit v 5e-21 or more), yet v itself may be such a boundary: a tie only e's sign
+    breaks, and no precision decides it, e having about n/N bits below the point. Both
+    figures are therefore reported from the rationals N (1 - d) and (n - N)(1 + d), d =
+    2**-160: their offsets, like e, are positive and below v 2**-68, so they lie on the
+    same side of every boundary as the true values and round exactly as those do.
+    """
+    shift = 160
+    below = magnitude_of_fraction(size * ((1 << shift) - 1), 1 << shift)
+    above = magnitude_of_fraction((count - size) * ((1 << shift) + 1), 1 << shift)
+    return below, above
 
 
 #: Largest exact cost (digits of N**n) at which the expected figures are formed exactly.
