@@ -41,13 +41,13 @@ def test_document_covers_every_route(openapi_document: dict[str, Any]) -> None:
     assert set(openapi_document["paths"]) == {
         "/v1/collisions", "/v1/lengths", "/v1/capacity", "/v1/bits", "/v1/alphabets",
         "/v1/formats", "/v1/prefixes", "/v1/guessing", "/v1/rates",
-        "/v1/reviews", "/v1/budgets", "/v1/curves",
+        "/v1/reviews", "/v1/budgets", "/v1/curves", "/v1/loads", "/v1/coverage",
         "/healthz", "/readyz", "/metrics", "/openapi.json",
     }
     names = {p["name"] for p in openapi_document["paths"]["/v1/collisions"]["get"]["parameters"]}
     assert names == {"bits", "alphabet", "alphabet_size", "symbols", "length", "size",
                      "format", "tick", "random_bits", "count", "rate", "duration", "burst",
-                     "burst_share"}
+                     "burst_share", "multiplicity"}
 
 
 def test_served_document_equals_the_committed_one(client: FlaskClient) -> None:

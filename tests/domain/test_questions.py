@@ -49,8 +49,8 @@ def _mpmath_risk(size: int, count: int) -> mpmath.mpf:
 def test_registry_holds_the_five_questions_in_path_order() -> None:
     assert [q.path for q in REGISTRY] == [
         "/v1/alphabets", "/v1/bits", "/v1/budgets", "/v1/capacity", "/v1/collisions",
-        "/v1/curves", "/v1/formats",
-        "/v1/guessing", "/v1/lengths", "/v1/prefixes", "/v1/rates",
+        "/v1/coverage", "/v1/curves", "/v1/formats",
+        "/v1/guessing", "/v1/lengths", "/v1/loads", "/v1/prefixes", "/v1/rates",
         "/v1/reviews",
     ]
     for question in REGISTRY:
@@ -65,7 +65,8 @@ def test_assumption_states_the_premise_and_defers_to_policy() -> None:
     assert "security policy" in ASSUMPTION and "standards" in ASSUMPTION
     # Listings have no premise; guessing carries its own caution, prefixes its own premise
     # (tests/domain/test_security_questions.py).
-    own = ("alphabets", "formats", "guessing", "prefixes", "reviews")
+    # Loads and coverage rest on uniform placement (tests/api/test_loads.py, test_coverage.py).
+    own = ("alphabets", "formats", "guessing", "prefixes", "reviews", "loads", "coverage")
     assert all(q.premise == ASSUMPTION for q in REGISTRY if q.name not in own)
 
 

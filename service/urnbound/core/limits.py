@@ -57,3 +57,15 @@ MAX_POINTS = 500
 #: Exact-path cost limit (digits of N**n) of each point of a series or a curve: above it a
 #: point takes the expansion with its bound, so that 500 points cost what a few answers do.
 SERIES_EXACT_DIGIT_LIMIT = 2_000
+#: Occupancy questions (loads, coverage, multiplicity): most buckets, most items or draws,
+#: highest load and floor, and the multiplicity range of /v1/collisions. The caps keep
+#: every special function the engine evaluates within a few milliseconds.
+MIN_BUCKETS = 1
+MAX_BUCKETS = 10**12
+MAX_ITEMS = 10**15
+MIN_LOAD = 1
+MAX_LOAD = 10**15
+MIN_AT_LEAST = 1
+MAX_AT_LEAST = 1_000
+MIN_MULTIPLICITY = 2
+MAX_MULTIPLICITY = 256

@@ -276,3 +276,22 @@ def ball_magnitude(x: arb, log10: float | None = None) -> Magnitude | None:
         raise NoConvergence("a figure lies beyond the reported range")
     return Magnitude(to_float(value), reporting.decimal_text(value, log10), log10,
                      reporting.text_bound(error))
+
+
+def reciprocal(probability: Magnitude) -> Magnitude | None:
+    """1 / p from p's decimal text d with |d - p| <= e p: off by at most e / (1 - e).
+
+    ``None`` for p = 0.
+
+    >>> reciprocal(Magnitude(0.25, "2.5000000000000000000e-1", -0.6, 0.0)).decimal
+    '4.0000000000000000000e0'
+    """
+    if probability.log10 is None:
+        return None
+    text = Fraction(probability.decimal)
+    error = probability.relative_error_bound
+    with precision(128):
+        value = arb(text.denominator) / text.numerator
+        spread = arb(error) / (1 - arb(error)) if error else arb(0)
+        found = ball_magnitude(balls.widened(value, value * spread), 0.0 - probability.log10)
+    return found

@@ -18,15 +18,24 @@ from typing import Any
 
 from urnbound.core.limits import (
     MAX_ALPHABET_SIZE,
+    MAX_AT_LEAST,
     MAX_BIG_TEXT_CHARS,
     MAX_BITS,
+    MAX_BUCKETS,
     MAX_COUNT,
+    MAX_ITEMS,
+    MAX_LOAD,
+    MAX_MULTIPLICITY,
     MAX_SIZE,
     MAX_SIZE_BITS,
     MAX_TEXT_CHARS,
     MIN_ALPHABET_SIZE,
+    MIN_AT_LEAST,
     MIN_BITS,
+    MIN_BUCKETS,
     MIN_LENGTH,
+    MIN_LOAD,
+    MIN_MULTIPLICITY,
     MIN_SPACE_SIZE,
 )
 from urnbound.domain import alphabets, durations, formats, numbers, spaces
@@ -259,4 +268,92 @@ ALPHABET_CHOICE = Choice(
 PARAMETERS: Mapping[str, Parameter] = MappingProxyType(
     {p.name: p for p in (BITS, ALPHABET, ALPHABET_SIZE, SYMBOLS, LENGTH, SIZE, COUNT, MAX_RISK,
                          FORMAT, TICK, RANDOM_BITS)}
+)
+
+# --- occupancy questions: /v1/loads, /v1/coverage, multiplicity on /v1/collisions ---------
+
+
+def _count_in(name: str, low: int, high: int) -> Callable[[str], int]:
+    def parse(text: str) -> int:
+        return numbers.parse_count(text, field=name, minimum=low, maximum=high)
+
+    return parse
+
+
+def _big_whole(name: str, low: int, high: int, description: str, example: str) -> Parameter:
+    return Parameter(name, _count_in(name, low, high),
+                     numbers.whole_rule(low, high, scientific=True), description, example,
+                     _big_number_schema())
+
+
+BUCKETS = _big_whole("buckets", MIN_BUCKETS, MAX_BUCKETS,
+                     "The number of equally likely buckets (hash slots, shards, partitions, "
+                     "values).", "1e4")
+
+ITEMS = _big_whole("count", 0, MAX_ITEMS,
+                   "The number of items placed, each independently and uniformly.", "1e6")
+
+DRAWS = _big_whole("draws", 0, MAX_ITEMS,
+                   "The number of independent uniform draws over the buckets.", "1e5")
+
+LOAD = _big_whole("load", MIN_LOAD, MAX_LOAD,
+                  "A bucket load k: the answer is the chance that some bucket holds at least "
+                  "k items.", "3")
+
+LOAD_MAX_RISK = Parameter(
+    "max_risk",
+    numbers.parse_risk,
+    numbers.risk_rule(),
+    "The largest acceptable chance that some bucket reaches the load; compared exactly.",
+    "1e-6",
+    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": MAX_TEXT_CHARS},
+)
+
+AT_LEAST = Parameter(
+    "at_least",
+    _whole("at_least", MIN_AT_LEAST, MAX_AT_LEAST),
+    numbers.whole_rule(MIN_AT_LEAST, MAX_AT_LEAST, scientific=False) + ", default 1",
+    "How many times every bucket must be used (1: every bucket used at all).",
+    "1",
+    {"type": "integer", "minimum": MIN_AT_LEAST, "maximum": MAX_AT_LEAST, "default": 1},
+)
+
+TARGET = Parameter(
+    "target",
+    lambda text: numbers.parse_risk(text, field="target"),
+    numbers.risk_rule(),
+    "The chance of using every bucket that the draws must reach; compared exactly.",
+    "0.99",
+    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": MAX_TEXT_CHARS},
+)
+
+MULTIPLICITY = Parameter(
+    "multiplicity",
+    _whole("multiplicity", MIN_MULTIPLICITY, MAX_MULTIPLICITY),
+    numbers.whole_rule(MIN_MULTIPLICITY, MAX_MULTIPLICITY, scientific=False) + ", default 2",
+    "How many identifiers must share one value to count as a collision (2: any repeat).",
+    "3",
+    {"type": "integer", "minimum": MIN_MULTIPLICITY, "maximum": MAX_MULTIPLICITY,
+     "default": 2},
+)
+
+#: The load to price (an int) or the risk budget to find the smallest load for (a Fraction).
+LOAD_OR_RISK = Choice(
+    "load",
+    "Either load (the chance of reaching it) or max_risk (the smallest load within it).",
+    (
+        Form(LOAD, (), lambda load: load),
+        Form(LOAD_MAX_RISK, (), lambda risk: risk),
+    ),
+)
+
+#: The draws to price (an int) or the target chance to find the fewest draws for (a Fraction).
+DRAWS_OR_TARGET = Choice(
+    "draws",
+    "Either draws (the chance that they use every bucket) or target (the fewest draws "
+    "that reach it).",
+    (
+        Form(DRAWS, (), lambda draws: draws),
+        Form(TARGET, (), lambda target: target),
+    ),
 )

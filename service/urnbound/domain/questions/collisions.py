@@ -10,6 +10,11 @@ A time-ordered space (``format=uuid-v7``, or ``tick`` + ``random_bits``) takes `
 its identifiers can coincide only within one tick, and the answer is the tick model's
 (``tick_model`` gives the load it saw).
 
+``multiplicity`` k (default 2) counts a collision only when at least k identifiers share
+one value: the answer is then the chance of a k-fold coincidence, with the expected
+number of k-sets sharing a value, C(count, k) / size**(k-1). k = 2 is the birthday
+bound above, answered by the same path as without the parameter.
+
 Example: ``GET /v1/collisions?alphabet=base64url&length=8&count=2e6``
 """
 
@@ -17,12 +22,16 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from urnbound.core.errors import DomainError
 from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT
+from urnbound.core.occupancy import occupancy_risk, reciprocal
+from urnbound.core.occupancy_figures import expected_sets
+from urnbound.core.occupancy_results import BELOW, Rule
 from urnbound.core.pairwise import collision_risk, related_figures
 from urnbound.core.results import CollisionRisk, RelatedFigures
 from urnbound.core.ticks import tick_risk
 from urnbound.domain.inputs import Inputs
-from urnbound.domain.parameters import COUNT, SPACE
+from urnbound.domain.parameters import COUNT, MULTIPLICITY, SPACE
 from urnbound.domain.question import (
     Answer,
     AnswerField,
@@ -67,10 +76,18 @@ def collision_report(
 
 
 def _answer(inputs: Inputs, context: Context) -> Answer:
+    multiplicity = inputs["multiplicity"] or 2
     if uses_tick_model(inputs):
+        if multiplicity != 2:
+            raise DomainError("multiplicity goes with count, not with a time-ordered space",
+                              field="multiplicity")
         space = inputs["space"]
         ticked = tick_risk(space.random_bits, loads_of(inputs, space.tick_seconds))
-        return Answer(collision_values(inputs, ticked), ticked.method)
+        values = {**collision_values(inputs, ticked), "multiplicity": 2,
+                  "expected_coincident_sets": None}
+        return Answer(values, ticked.method)
+    if multiplicity > 2:
+        return _coincidence_answer(inputs, context, multiplicity)
     report = collision_report(inputs["space"], inputs["count"],
                               exact_digit_limit=context.exact_digit_limit)
     risk, figures = report.risk, report.figures
@@ -87,6 +104,35 @@ def _answer(inputs: Inputs, context: Context) -> Answer:
             "relative_error_bound": risk.relative_error_bound,
             "exact": risk.exact,
             "tick_model": None,
+            "multiplicity": 2,
+            "expected_coincident_sets": figures.expected_colliding_pairs,
+        },
+        risk.method,
+    )
+
+
+def _coincidence_answer(inputs: Inputs, context: Context, multiplicity: int) -> Answer:
+    """The chance that some value is drawn ``multiplicity`` times or more (k >= 3)."""
+    if inputs["count"] is None:
+        raise DomainError("count is required with multiplicity", field="count")
+    space, count = inputs["space"], inputs["count"]
+    report = collision_report(space, count, exact_digit_limit=context.exact_digit_limit)
+    risk = occupancy_risk(space.size, count, Rule(BELOW, multiplicity))
+    return Answer(
+        {
+            "collision": risk.fails,
+            "no_collision": risk.holds,
+            "expected_colliding_pairs": report.figures.expected_colliding_pairs,
+            "expected_duplicates": report.figures.expected_duplicates,
+            "reciprocal_risk": reciprocal(risk.fails),
+            "space": space,
+            "count": count,
+            "method": risk.method,
+            "relative_error_bound": risk.relative_error_bound,
+            "exact": risk.exact,
+            "tick_model": None,
+            "multiplicity": multiplicity,
+            "expected_coincident_sets": expected_sets(space.size, count, multiplicity),
         },
         risk.method,
     )
@@ -98,7 +144,7 @@ QUESTION = Question(
     summary="Collision risk of count identifiers drawn from one space.",
     description=__doc__ or "",
     inputs=(SPACE,),
-    optional=(COUNT, *LOAD_PARAMETERS),
+    optional=(COUNT, *LOAD_PARAMETERS, MULTIPLICITY),
     answer=(
         AnswerField("collision", "probability", "P(at least two identifiers are equal)."),
         AnswerField("no_collision", "probability",
@@ -118,6 +164,12 @@ QUESTION = Question(
                     "The risk as a reduced fraction, when its terms have at most 1,000 "
                     "digits each (exact method only).", nullable=True),
         TICK_MODEL_FIELD,
+        AnswerField("multiplicity", "integer",
+                    "How many identifiers must share a value to count (2 unless given)."),
+        AnswerField("expected_coincident_sets", "magnitude",
+                    "Expected number of sets of multiplicity identifiers sharing one value, "
+                    "C(count, multiplicity) / size^(multiplicity - 1); null for a "
+                    "time-ordered space.", nullable=True),
     ),
     compute=_answer,
     example={"alphabet": "base64url", "length": "8", "count": "2e6"},
