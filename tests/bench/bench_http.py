@@ -6,7 +6,7 @@ Run from the repository root with the project's environment::
     .venv/bin/python tests/bench/bench_http.py --help
 
 Several gunicorn instances run side by side, each started with deploy/gunicorn.conf.py as in
-production (sync workers, 2 of them by default, a Prometheus multiprocess directory of its
+production (its worker class, 2 workers by default, a Prometheus multiprocess directory of its
 own) on a free port of 127.0.0.1, with the bench apps of ``empty_app.py``:
 
 * ``bare``: a Flask app with one empty JSON endpoint and nothing else: the floor;
@@ -184,8 +184,9 @@ def scenarios(bits: int, count: int) -> tuple[Scenario, ...]:
 def drive(job: Job) -> Tally:
     """Send requests one after another until time or count runs out.
 
-    The HTTP/1.1 client asks for keep-alive; gunicorn's sync workers close each connection
-    anyway, and the client reconnects, so every endpoint pays the same connection cost.
+    The HTTP/1.1 client asks for keep-alive; the worker class keeps the connection or closes
+    it (the client then reconnects) alike for every endpoint, so all pay the same connection
+    cost.
     """
     connection = http.client.HTTPConnection(HOST, job.port, timeout=REQUEST_TIMEOUT_S)
     time.sleep(max(0.0, job.start_at - time.time()))
@@ -537,8 +538,8 @@ def report(options: Options, chosen: Sequence[Scenario], measured: Measurements)
     cpus = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count()
     load = os.getloadavg()[0] if hasattr(os, "getloadavg") else float("nan")
     print(
-        f"gunicorn {gunicorn_version()}, deploy/gunicorn.conf.py, {options.workers} sync "
-        f"workers per instance; Python {platform.python_version()}; {cpus} CPUs shared by "
+        f"gunicorn {gunicorn_version()}, deploy/gunicorn.conf.py, {options.workers} workers "
+        f"of its class per instance; Python {platform.python_version()}; {cpus} CPUs shared by "
         f"server and load (1-minute load average {load:.2f} at the end); {options.clients} "
         f"client process(es) on {HOST}; {options.rounds} interleaved rounds of "
         f"{options.duration_s:g} s per phase."
