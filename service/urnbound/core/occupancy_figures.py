@@ -122,10 +122,10 @@ def expected_draws_to_cover(buckets: int) -> Magnitude:
 
 
 def likely_maximum(buckets: int, count: int) -> int:
-    """The smallest j with N P(Binomial(n, 1/N) > j) < 1/2 (an estimate, in floats).
+    """The smallest j with N P(Binomial(n, 1/N) > j) < 1/2.
 
-    Found by bisection over j on a float estimate of the tail; it only places the rows
-    of the load profile, whose figures are computed with their bounds.
+    Found by bisection over j on a float estimate of the tail, then settled by at most
+    MAX_SETTLE_STEPS unit steps on the ball figures (decided on their 20-digit texts).
 
     >>> likely_maximum(365, 23)
     2
@@ -141,7 +141,28 @@ def likely_maximum(buckets: int, count: int) -> int:
             high = middle
         else:
             low = middle
-    return high if _log_expected_above(buckets, count, low) >= math.log(0.5) else low
+    guess = high if _log_expected_above(buckets, count, low) >= math.log(0.5) else low
+    return _settled_maximum(buckets, count, guess)
+
+
+#: Unit steps that settle the float estimate of the likely maximum on the ball figures.
+MAX_SETTLE_STEPS = 16
+
+
+def _settled_maximum(buckets: int, count: int, guess: int) -> int:
+    """Move the estimate by unit steps until N P(> j) < 1/2 <= N P(> j - 1) (at most 16)."""
+    def above_half(j: int) -> bool:
+        return Fraction(expected_at_least(buckets, count, j + 1).decimal) >= Fraction(1, 2)
+
+    top = guess
+    for _ in range(MAX_SETTLE_STEPS):
+        if above_half(top):
+            top += 1
+        elif top > 0 and not above_half(top - 1):
+            top -= 1
+        else:
+            break
+    return top
 
 
 def _log_expected_above(buckets: int, count: int, j: int) -> float:
@@ -153,7 +174,11 @@ def _log_expected_above(buckets: int, count: int, j: int) -> float:
     log_pmf = (math.lgamma(count + 1) - math.lgamma(k + 1) - math.lgamma(count - k + 1)
                + k * math.log(p) + (count - k) * math.log1p(-p))
     ratio = (count - k) * p / ((k + 1) * (1 - p))
-    tail = -math.log1p(-ratio) if ratio < 1 else 0.5 * math.log(2 * math.pi * count * p + 1)
+    if ratio > 0.9:  # near the bulk: the normal tail with a continuity correction
+        spread = math.sqrt(count * p * (1 - p))
+        upper = 0.5 * math.erfc((j + 0.5 - count * p) / (spread * math.sqrt(2)))
+        return math.log(buckets) + math.log(max(upper, 1e-300))
+    tail = -math.log1p(-ratio)
     return math.log(buckets) + log_pmf + tail
 
 

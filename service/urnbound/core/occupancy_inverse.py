@@ -217,7 +217,9 @@ def _log_expected_at_least(buckets: int, count: int, k: int) -> float:
     log_pmf = (math.lgamma(count + 1) - math.lgamma(k + 1) - math.lgamma(count - k + 1)
                + k * math.log(p) + (count - k) * math.log1p(-p))
     ratio = (count - k) * p / ((k + 1) * (1 - p))
-    tail = -math.log1p(-ratio) if ratio < 1 else 0.5 * math.log(2 * math.pi * count * p + 1)
+    if ratio >= 1:  # k is at or below the mode: the tail holds about half the law or more
+        return math.log(buckets) + math.log(0.5)
+    tail = -math.log1p(-ratio)
     return math.log(buckets) + min(log_pmf + tail, 0.0)
 
 
