@@ -42,7 +42,7 @@ def test_document_covers_every_route(openapi_document: dict[str, Any]) -> None:
         "/v1/collisions", "/v1/lengths", "/v1/capacity", "/v1/bits", "/v1/alphabets",
         "/v1/formats", "/v1/prefixes", "/v1/guessing", "/v1/rates",
         "/v1/reviews", "/v1/budgets", "/v1/curves", "/v1/loads", "/v1/coverage",
-        "/healthz", "/readyz", "/metrics", "/openapi.json",
+        "/healthz", "/readyz", "/metrics", "/openapi.json", "/v1/schemes", "/v1/schemes/{name}",
     }
     names = {p["name"] for p in openapi_document["paths"]["/v1/collisions"]["get"]["parameters"]}
     assert names == {"bits", "alphabet", "alphabet_size", "symbols", "length", "size",

@@ -29,6 +29,10 @@ class Settings:
     :ivar host: address gunicorn listens on (read by ``deploy/gunicorn.conf.py`` too).
     :ivar port: port gunicorn listens on.
     :ivar workers: gunicorn worker processes; 0 means 2 x usable CPUs + 1.
+    :ivar schemes: path of a TOML file of watched schemes (``domain/schemes.py``); empty
+        for none. A bad file stops start-up with the scheme and the field named.
+    :ivar schemes_max_age: seconds sent in ``Cache-Control`` of the schemes' answers, which
+        change with the clock.
 
     Names and defaults of ``host``, ``port``, ``workers`` and ``log_level`` match
     ``deploy/gunicorn.conf.py``, which reads the same variables.
@@ -45,6 +49,8 @@ class Settings:
     host: str = "127.0.0.1"
     port: int = 8080
     workers: int = 0
+    schemes: str = ""
+    schemes_max_age: int = 30
 
     def __post_init__(self) -> None:
         _require_range("exact_digit_limit", self.exact_digit_limit, 1, 10_000_000)
@@ -52,6 +58,7 @@ class Settings:
         _require_range("cache_max_age", self.cache_max_age, 0, 31_536_000)
         _require_range("port", self.port, 1, 65_535)
         _require_range("workers", self.workers, 0, 64)
+        _require_range("schemes_max_age", self.schemes_max_age, 0, 86_400)
         if self.log_level not in LOG_LEVELS:
             raise ValueError(f"log_level must be one of {', '.join(LOG_LEVELS)}")
         if not self.host:

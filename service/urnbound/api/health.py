@@ -74,7 +74,8 @@ def readyz() -> Response:
         response = problem_response(typed_problem(NOT_READY, detail))
         response.cache_control.no_store = True
         return response
-    return no_store({"status": "ready", "checks": outcomes})
+    return no_store({"status": "ready", "checks": outcomes,
+                     "schemes": service_state().schemes.file_state()})
 
 
 def _outcome(check: SelfCheck, limit: int) -> str:

@@ -42,6 +42,8 @@ class Metrics:
     cache_events: Counter
     answers: Counter
     multiprocess_dir: str | None
+    #: Gauges computed at each scrape in this process (the watched schemes), if any.
+    live: CollectorRegistry | None = None
 
     def count_cache_lookup(self, hit: bool) -> None:
         """Count one lookup in the answer cache (children resolved once, not per request)."""
@@ -55,11 +57,12 @@ class Metrics:
 
     def exposition(self) -> bytes:
         """The current samples in the Prometheus text format."""
+        live = b"" if self.live is None else generate_latest(self.live)
         if self.multiprocess_dir is None:
-            return generate_latest(self.registry)
+            return generate_latest(self.registry) + live
         # Shared with other scrapes, exclusive of the master folding a dead worker's files.
         with directory_lock(self.multiprocess_dir, exclusive=False):
-            return generate_latest(self.scrape_registry())
+            return generate_latest(self.scrape_registry()) + live
 
     def scrape_registry(self) -> CollectorRegistry:
         """The registry to read: a fresh multiprocess one per scrape under gunicorn."""
@@ -70,8 +73,10 @@ class Metrics:
         return registry
 
 
-def build_metrics(multiprocess_dir: str | None = None) -> Metrics:
-    """Create a fresh registry and the service's instruments on it."""
+def build_metrics(multiprocess_dir: str | None = None,
+                  live: CollectorRegistry | None = None) -> Metrics:
+    """Create a fresh registry and the service's instruments on it (``live``: gauges
+    computed at each scrape, appended to the exposition)."""
     registry = CollectorRegistry(auto_describe=True)
     return Metrics(
         registry=registry,
@@ -101,6 +106,7 @@ def build_metrics(multiprocess_dir: str | None = None) -> Metrics:
             registry=registry,
         ),
         multiprocess_dir=multiprocess_dir,
+        live=live,
     )
 
 

@@ -147,10 +147,42 @@ def build_spec(registry: Registry | None = None) -> APISpec:
             "The numerical core passed its self-check.", "Health", "Self-check failed.")),
         "/metrics": ("metrics", _metrics_operation()),
         "/openapi.json": ("openapi", _openapi_operation()),
+        "/v1/schemes": ("schemes", _schemes_operation(
+            "The watched schemes, as written in the URNBOUND_SCHEMES file.",
+            {"type": "object", "properties": {
+                "schemes": {"type": "array", "items": {"type": "object"}},
+                "file": {"type": ["string", "null"]}}})),
+        "/v1/schemes/{name}": ("scheme", _schemes_operation(
+            "The budget of one watched scheme as of now: the members of /v1/budgets with "
+            "issued projected from its count, plus scheme and as_of; an SVG chart when "
+            "Accept prefers image/svg+xml.", {"type": "object"}, named=True)),
     }
     for path, (operation_id, operation) in fixed.items():
         spec.path(path=path, operations={"get": {"operationId": operation_id, **operation}})
     return spec
+
+
+def _schemes_operation(summary: str, answer: dict[str, Any], named: bool = False
+                       ) -> dict[str, Any]:
+    content: dict[str, Any] = {"application/json": {"schema": answer}}
+    if named:
+        content["image/svg+xml"] = {"schema": {"type": "string"}}
+    operation: dict[str, Any] = {
+        "summary": summary,
+        "description": "Depends on the clock: Cache-Control max-age is "
+        "URNBOUND_SCHEMES_MAX_AGE (default 30 s) and the ETag changes with the figures.",
+        "responses": {
+            "200": {"description": summary, "headers": _CACHE_HEADERS, "content": content},
+            "304": {"description": "Not modified: If-None-Match matched the ETag."},
+            "4XX": _problem("No such scheme (404), or another client error."),
+            "5XX": _problem("Server error."),
+        },
+    }
+    if named:
+        operation["parameters"] = [{"name": "name", "in": "path", "required": True,
+                                    "schema": {"type": "string"},
+                                    "description": "The scheme's name in the file."}]
+    return operation
 
 
 def _openapi_operation() -> dict[str, Any]:

@@ -112,6 +112,20 @@ class HealthSchema(Schema):
         values=fields.String(),
         metadata={"description": "Self-checks run (readyz only), name -> outcome."},
     )
+    schemes = fields.Nested(
+        "SchemesFileSchema",
+        metadata={"description": "The watched-schemes file (readyz only): its path, how "
+                  "many schemes were loaded, and its state (none configured, loaded, "
+                  "changed on disk, missing)."},
+    )
+
+
+class SchemesFileSchema(Schema):
+    """The state of the watched-schemes file, as /readyz reports it."""
+
+    file = fields.String(required=True, allow_none=True)
+    schemes = fields.Integer(required=True)
+    state = fields.String(required=True)
 
 
 class ProblemSchema(Schema):

@@ -13,6 +13,7 @@ from urnbound.api.schemas import HealthSchema
 from urnbound.config import Settings
 from urnbound.domain.question import Context
 from urnbound.domain.registry import Registry
+from urnbound.domain.schemes import WatchedSchemes
 
 #: Key of the state in ``app.extensions``.
 EXTENSION_KEY = "urnbound"
@@ -30,6 +31,7 @@ class ServiceState:
     """Everything an app owns: settings, metrics, caches, its questions and their schemas.
 
     :ivar context: the settings that change how questions are computed.
+    :ivar schemes: the watched schemes and the clock their answers read.
     """
 
     settings: Settings
@@ -39,6 +41,7 @@ class ServiceState:
     renderer: Renderer
     context: Context
     answers: AnswerSchemas
+    schemes: WatchedSchemes
 
 
 def service_state() -> ServiceState:

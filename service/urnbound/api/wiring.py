@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from flask import Flask
 
-from urnbound.api import health, openapi
+from urnbound.api import health, openapi, schemes
 from urnbound.api.access_log import init_access_log
 from urnbound.api.metrics import init_metrics
 from urnbound.api.problems import init_problems
@@ -12,8 +12,8 @@ from urnbound.api.state import EXTENSION_KEY, ServiceState
 from urnbound.api.views import init_questions
 from urnbound.config import Settings
 
-#: Endpoints that are not questions: probes and the OpenAPI document.
-BLUEPRINTS = (health.blueprint, openapi.blueprint)
+#: Endpoints that are not questions: probes, the OpenAPI document, the watched schemes.
+BLUEPRINTS = (health.blueprint, openapi.blueprint, schemes.blueprint)
 
 
 def wire(app: Flask, settings: Settings) -> None:

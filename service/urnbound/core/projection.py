@@ -353,74 +353,86 @@ def project_budget(
     max_risk: Fraction,
     points: int,
     *,
+    start: Fraction = Fraction(0),
     exact_digit_limit: int = DEFAULT_EXACT_DIGIT_LIMIT,
 ) -> BudgetProjection:
     """The risk now, at the horizon and at ``points`` moments between; when it runs out.
 
-    Each moment's risk takes the exact path only up to ``SERIES_EXACT_DIGIT_LIMIT`` digits
-    (the expansion, with its bound, above), so that 500 moments cost what a few answers
-    do; the capacity and the search keep ``exact_digit_limit``.
+    Now is ``start`` seconds into the schedule (0: the schedule starts now; a watched
+    scheme counted some time ago starts earlier); every reported moment is an offset from
+    now. Each moment's risk takes the exact path only up to ``SERIES_EXACT_DIGIT_LIMIT``
+    digits (the expansion, with its bound, above), so that 500 moments cost what a few
+    answers do; the capacity and the search keep ``exact_digit_limit``.
 
     >>> p = project_budget(2**64, IssueSchedule(0, Fraction(1000)), Fraction(86400 * 365),
     ...                    Fraction(1, 10**6), 3)
     >>> p.capacity.count, p.exhausted.seconds, p.exhausted.before.count, p.exhausted.at.count
     (6074003, Fraction(6075, 1), 6074000, 6075000)
+    >>> later = project_budget(2**64, IssueSchedule(0, Fraction(1000)), Fraction(86400),
+    ...                        Fraction(1, 10**6), 2, start=Fraction(5000))
+    >>> later.now.count, later.exhausted.seconds
+    (5000000, Fraction(1075, 1))
     """
     if horizon <= 0:
         raise DomainError("horizon must be above 0", field="horizon")
+    if start < 0:
+        raise DomainError("the schedule starts after now", field="start")
     risks: dict[int, CollisionRisk] = {}
     point_limit = min(exact_digit_limit, SERIES_EXACT_DIGIT_LIMIT)
+    bits = schedule.first_bits(start + horizon) if schedule.growth != 1 else None
 
-    bits = schedule.first_bits(horizon) if schedule.growth != 1 else None  # c(t) <= c(H)
-
-    def point(seconds: Fraction) -> ProjectedPoint:
-        count = schedule.count_at(seconds, bits)
+    def point(offset: Fraction) -> ProjectedPoint:
+        count = schedule.count_at(start + offset, bits)  # c(t) <= c(start + horizon)
         risk = risks.get(count)
         if risk is None:
             risk = risks[count] = collision_risk(size, count, exact_digit_limit=point_limit)
-        return ProjectedPoint(seconds, count, risk)
+        return ProjectedPoint(offset, count, risk)
 
     capacity = largest_count(size, max_risk, exact_digit_limit=exact_digit_limit)
     series = tuple(point(t) for t in series_moments(horizon, points))
     now, at_horizon = series[0], series[-1]
-    exhausted = _exhaustion(size, schedule, horizon, max_risk, capacity.count,
-                            exact_digit_limit, point, at_horizon)
+    family = SecondsFamily(CountFamily(size, exact_digit_limit), schedule,
+                           math.floor(start + horizon), capacity.count, math.floor(start))
+    exhausted = _exhaustion(family, max_risk, start, horizon, point, now, at_horizon)
     return BudgetProjection(
         size=size, max_risk=max_risk, schedule=schedule, horizon=horizon, capacity=capacity,
         now=now, at_horizon=at_horizon, exhausted=exhausted,
-        headroom=max(0, capacity.count - schedule.issued),
-        capacity_used=Fraction(schedule.issued, capacity.count), series=series,
+        headroom=max(0, capacity.count - now.count),
+        capacity_used=Fraction(now.count, capacity.count), series=series,
     )
 
 
 def _exhaustion(
-    size: int,
-    schedule: IssueSchedule,
-    horizon: Fraction,
+    family: SecondsFamily,
     max_risk: Fraction,
-    capacity: int,
-    exact_digit_limit: int,
+    start: Fraction,
+    horizon: Fraction,
     point: Callable[[Fraction], ProjectedPoint],
+    now: ProjectedPoint,
     at_horizon: ProjectedPoint,
 ) -> Exhaustion | None:
-    """The first whole second over budget by the certified search, or ``None``."""
-    family = SecondsFamily(CountFamily(size, exact_digit_limit), schedule,
-                           math.floor(horizon), capacity)
+    """The first whole second over budget by the certified search, or ``None``.
+
+    The search runs over whole seconds of the schedule; the answer is given as an offset
+    from now, and the moment one second earlier is never before now.
+    """
+    if now.count > family.capacity:
+        return Exhaustion(Fraction(0), True, None, now)
     boundary = certified_boundary(family, max_risk)
-    if boundary is None:  # second 0 already fails
-        return Exhaustion(Fraction(0), True, None, point(Fraction(0)))
+    if boundary is None:  # pragma: no cover - the whole second before now passes as now does
+        return Exhaustion(Fraction(0), True, None, now)
     if boundary.neighbour is not None:
-        seconds = Fraction(boundary.neighbour)
-    elif at_horizon.count > capacity:  # crosses between the last whole second and the horizon
-        seconds = horizon
+        offset = boundary.neighbour - start
+    elif at_horizon.count > family.capacity:  # crosses after the last whole second
+        offset = horizon
     else:
         return None
-    return Exhaustion(seconds, False, point(seconds - 1), point(seconds))
+    return Exhaustion(offset, False, point(max(offset - 1, Fraction(0))), point(offset))
 
 
 @dataclass(frozen=True, slots=True)
 class SecondsFamily:
-    """The risk at whole seconds 0 .. last of an issue schedule (rising in time).
+    """The risk at whole seconds first .. last of an issue schedule (rising in time).
 
     The risk at second t is that of the count family at n(t); every comparison goes
     through the count family's own certified steps. ``capacity`` (the certified largest
@@ -431,11 +443,12 @@ class SecondsFamily:
     schedule: IssueSchedule
     last: int
     capacity: int
+    first: int = 0
     _seen: dict[int, int] = field(default_factory=dict, compare=False, repr=False)
 
     @property
     def lowest(self) -> int:
-        return 0
+        return self.first
 
     @property
     def highest(self) -> int:

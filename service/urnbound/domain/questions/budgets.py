@@ -96,13 +96,9 @@ def _risks(projection: BudgetProjection) -> Iterable[CollisionRisk]:
             yield projection.exhausted.before.risk
 
 
-def _answer(inputs: Inputs, context: Context) -> Answer:
-    refuse_time_ordered(inputs)
-    schedule = schedule_of(inputs)
-    projection = project_budget(
-        inputs["space"].size, schedule, inputs["horizon"], inputs["max_risk"],
-        inputs["points"] or DEFAULT_POINTS, exact_digit_limit=context.exact_digit_limit)
-    used = projection.capacity_used
+def budget_answer(inputs: Inputs, projection: BudgetProjection) -> Answer:
+    """The members of a budget answer from its projection (also for watched schemes)."""
+    used, rate = projection.capacity_used, projection.schedule.rate
     method = projection.capacity.at_count.method
     return Answer(
         {
@@ -112,10 +108,9 @@ def _answer(inputs: Inputs, context: Context) -> Answer:
             "headroom": projection.headroom,
             "capacity": projection.capacity.count,
             "capacity_used": magnitude_of_fraction(used.numerator, used.denominator),
-            "rate_per_second": magnitude_of_fraction(schedule.rate.numerator,
-                                                     schedule.rate.denominator),
-            "max_risk": magnitude_of_fraction(inputs["max_risk"].numerator,
-                                              inputs["max_risk"].denominator),
+            "rate_per_second": magnitude_of_fraction(rate.numerator, rate.denominator),
+            "max_risk": magnitude_of_fraction(projection.max_risk.numerator,
+                                              projection.max_risk.denominator),
             "series": [moment(point) for point in projection.series],
             "space": inputs["space"],
             "method": method,
@@ -123,6 +118,14 @@ def _answer(inputs: Inputs, context: Context) -> Answer:
         },
         method,
     )
+
+
+def _answer(inputs: Inputs, context: Context) -> Answer:
+    refuse_time_ordered(inputs)
+    projection = project_budget(
+        inputs["space"].size, schedule_of(inputs), inputs["horizon"], inputs["max_risk"],
+        inputs["points"] or DEFAULT_POINTS, exact_digit_limit=context.exact_digit_limit)
+    return budget_answer(inputs, projection)
 
 
 def _collision(description: str, nullable: bool = False) -> AnswerField:
@@ -171,7 +174,8 @@ QUESTION = Question(
                     "risk exceeds max_risk (0 when over)."),
         AnswerField("capacity", "whole", "The largest count within max_risk."),
         AnswerField("capacity_used", "magnitude", "issued / capacity (above 1 when over)."),
-        AnswerField("rate_per_second", "magnitude", "The rate now, per second."),
+        AnswerField("rate_per_second", "magnitude", "The rate per second at the start of the "
+                    "schedule (now; for a watched scheme, when it was counted)."),
         AnswerField("max_risk", "magnitude", "The budget, as given."),
         AnswerField("series", "records", "Evenly spaced moments from now to the horizon.",
                     members=MOMENT_MEMBERS),

@@ -1,0 +1,206 @@
+"""Watched schemes: a schemes file in a temporary folder, figures at a frozen clock, gauges.
+
+The clock is injected (``create_app(..., clock=...)``): nothing sleeps. The gauges are read
+back with the Prometheus client's own text parser.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from datetime import UTC, datetime, timedelta
+from pathlib import Path
+
+import pytest
+from flask import Flask
+from prometheus_client.parser import text_string_to_metric_families
+from tests.core._reference import high_precision_risk, ln_of_text, relative_gap
+
+from urnbound.app import create_app
+from urnbound.domain.schemes import SchemesError
+
+#: Two invented schemes: ticket codes (36^14), and 122-bit order identifiers.
+SCHEMES = """
+[[scheme]]
+name = "tickets"
+alphabet = "lowercase-alphanumeric"
+length = 14
+issued = 40_000_000
+counted_at = 2026-11-01T00:00:00Z
+rate = "2e5"
+per = "P1D"
+max_risk = "1e-6"
+
+[[scheme]]
+name = "orders"
+format = "uuid-v4"
+issued = "1e9"
+counted_at = "2026-10-01T00:00:00+02:00"
+rate = 50
+growth = 1.5
+max_risk = 1e-12
+horizon = "P365D"
+"""
+START = datetime(2026, 12, 1, tzinfo=UTC)
+
+
+class FrozenClock:
+    """A clock that stands still until a test moves it."""
+
+    def __init__(self, moment: datetime) -> None:
+        self.moment = moment
+
+    def __call__(self) -> datetime:
+        return self.moment
+
+
+def make_app(path: Path, clock: Callable[[], datetime]) -> Flask:
+    return create_app({"TESTING": True, "access_log": False, "schemes": str(path)}, clock=clock)
+
+
+@pytest.fixture
+def schemes_file(tmp_path: Path) -> Path:
+    path = tmp_path / "schemes.toml"
+    path.write_text(SCHEMES, encoding="utf-8")
+    return path
+
+
+@pytest.fixture
+def clock() -> FrozenClock:
+    return FrozenClock(START)
+
+
+@pytest.fixture
+def watched(schemes_file: Path, clock: FrozenClock, monkeypatch: pytest.MonkeyPatch) -> Flask:
+    monkeypatch.delenv("PROMETHEUS_MULTIPROC_DIR", raising=False)
+    return make_app(schemes_file, clock)
+
+
+def test_listing_names_every_scheme_with_a_short_max_age(watched: Flask) -> None:
+    response = watched.test_client().get("/v1/schemes")
+    assert response.status_code == 200
+    body = response.get_json()
+    assert [s["name"] for s in body["schemes"]] == ["tickets", "orders"]
+    assert body["schemes"][0]["fields"]["rate"] == "2e5"
+    assert response.headers["Cache-Control"] == "public, max-age=30"
+
+
+def test_budget_as_of_now_projects_the_count_from_its_timestamp(watched: Flask) -> None:
+    client = watched.test_client()
+    body = client.get("/v1/schemes/tickets").get_json()
+    assert body["scheme"] == "tickets" and body["as_of"] == "2026-12-01T00:00:00+00:00"
+    # thirty days at 200,000 a day on top of forty million
+    assert body["now"]["count"] == "46000000"
+    ref = high_precision_risk(36**14, 46_000_000)  # mpmath log-gamma at high precision
+    assert relative_gap(ref.mp, ln_of_text(ref.mp, body["now"]["collision"]["decimal"]),
+                        ref.ln_risk) <= 1e-19
+    # a steady rate: the same budget as /v1/budgets asked now with that count
+    same = client.get("/v1/budgets?alphabet=lowercase-alphanumeric&length=14&issued=4.6e7"
+                      "&rate=2e5&per=P1D&horizon=P3650D&max_risk=1e-6&points=12").get_json()
+    assert body["exhausted_after"] == same["exhausted_after"]
+    assert body["capacity"] == same["capacity"]
+
+
+def test_figures_and_etag_change_with_the_clock(watched: Flask, clock: FrozenClock) -> None:
+    client = watched.test_client()
+    first = client.get("/v1/schemes/tickets")
+    tag = first.headers["ETag"]
+    assert client.get("/v1/schemes/tickets", headers={"If-None-Match": tag}).status_code == 304
+    clock.moment = START + timedelta(days=1)
+    later = client.get("/v1/schemes/tickets", headers={"If-None-Match": tag})
+    assert later.status_code == 200 and later.headers["ETag"] != tag
+    assert later.get_json()["now"]["count"] == "46200000"
+    before = first.get_json()["exhausted_after"]["seconds"]
+    assert later.get_json()["exhausted_after"]["seconds"] == before - 86_400
+
+
+def test_gauges_in_metrics_follow_prometheus_conventions(watched: Flask) -> None:
+    client = watched.test_client()
+    tickets = client.get("/v1/schemes/tickets").get_json()
+    orders = client.get("/v1/schemes/orders").get_json()
+    text = client.get("/metrics").get_data(as_text=True)
+    samples = {(s.name, s.labels.get("scheme")): s.value
+               for family in text_string_to_metric_families(text) for s in family.samples}
+    risk = samples[("urnbound_scheme_collision_risk", "tickets")]
+    assert risk == pytest.approx(tickets["now"]["collision"]["value"], rel=1e-15, abs=0)
+    assert samples[("urnbound_scheme_collision_risk_log10", "tickets")] == pytest.approx(
+        tickets["now"]["collision"]["log10"], rel=1e-15, abs=0)
+    used = int(tickets["now"]["count"]) / int(tickets["capacity"])
+    assert samples[("urnbound_scheme_budget_used_ratio", "tickets")] == pytest.approx(
+        used, rel=1e-15, abs=0)
+    assert samples[("urnbound_scheme_budget_exhausted_in_seconds", "tickets")] == (
+        tickets["exhausted_after"]["seconds"])
+    # 122 random bits and a trillionth: the year's horizon ends first
+    assert orders["exhausted_after"] is None
+    assert samples[("urnbound_scheme_budget_exhausted_in_seconds", "orders")] == float("inf")
+
+
+def test_growth_scheme_counts_from_its_offset_timestamp(watched: Flask) -> None:
+    body = watched.test_client().get("/v1/schemes/orders").get_json()
+    # counted 2026-09-30T22:00Z: 61 days and 2 hours before the clock
+    assert body["as_of"] == "2026-12-01T00:00:00+00:00"
+    assert int(body["now"]["count"]) > 10**9 + 50 * (61 * 86_400 + 7_200)  # the rate grew
+
+
+def test_unknown_scheme_is_a_404_problem(watched: Flask) -> None:
+    response = watched.test_client().get("/v1/schemes/invoices")
+    assert response.status_code == 404
+    assert response.mimetype == "application/problem+json"
+    assert "tickets, orders" in response.get_json()["detail"]
+
+
+def test_scheme_chart_when_accept_prefers_svg(watched: Flask) -> None:
+    response = watched.test_client().get("/v1/schemes/tickets",
+                                         headers={"Accept": "image/svg+xml"})
+    assert response.mimetype == "image/svg+xml"
+    assert b"time from now (years)" in response.data
+
+
+def test_readyz_reports_the_file_state(watched: Flask, schemes_file: Path) -> None:
+    client = watched.test_client()
+    assert client.get("/readyz").get_json()["schemes"] == {
+        "file": str(schemes_file), "schemes": 2, "state": "loaded"}
+    schemes_file.write_text(SCHEMES + "\n# edited\n", encoding="utf-8")
+    state = client.get("/readyz").get_json()["schemes"]["state"]
+    assert state.startswith("changed on disk")
+    schemes_file.unlink()
+    assert client.get("/readyz").get_json()["schemes"]["state"].startswith("missing")
+
+
+def test_no_schemes_file_means_no_schemes(client: object) -> None:
+    from flask.testing import FlaskClient
+
+    assert isinstance(client, FlaskClient)
+    assert client.get("/v1/schemes").get_json()["schemes"] == []
+    assert "urnbound_scheme_" not in client.get("/metrics").get_data(as_text=True)
+    assert client.get("/readyz").get_json()["schemes"]["state"] == "none configured"
+
+
+GOOD = ('[[scheme]]\nname = "{name}"\nbits = 64\ncounted_at = 2026-11-01T00:00:00Z\n'
+        'rate = 5\nmax_risk = "1e-6"\n')
+
+
+@pytest.mark.parametrize(("text", "scheme", "field"), [
+    (GOOD.format(name="a") + "colour = 3\n", "a", "colour"),
+    (GOOD.format(name="a").replace("bits = 64", 'format = "uuid-v1"'), "a", "format"),
+    (GOOD.format(name="a").replace("rate = 5", "rate = -5"), "a", "rate"),
+    (GOOD.format(name="a") + GOOD.format(name="a"), "a", "name"),
+    (GOOD.format(name="a").replace("2026-11-01T00:00:00Z", "2026-11-01T00:00:00"), "a",
+     "counted_at"),
+    (GOOD.format(name="a").replace('max_risk = "1e-6"', "max_risk = 2"), "a", "max_risk"),
+    (GOOD.format(name="a") + "points = 40\n", "a", "points"),
+])
+def test_a_bad_file_stops_start_up_naming_scheme_and_field(
+    tmp_path: Path, text: str, scheme: str, field: str
+) -> None:
+    path = tmp_path / "schemes.toml"
+    path.write_text(text, encoding="utf-8")
+    with pytest.raises(SchemesError) as caught:
+        make_app(path, FrozenClock(START))
+    message = str(caught.value)
+    assert f"scheme {scheme!r}" in message and f"field {field!r}" in message
+    assert str(path) in message
+
+
+def test_a_missing_file_stops_start_up(tmp_path: Path) -> None:
+    with pytest.raises(SchemesError, match="cannot be read"):
+        make_app(tmp_path / "absent.toml", FrozenClock(START))
