@@ -255,6 +255,9 @@ def test_reciprocal_risk_stays_within_its_bound_on_the_asymptotic_path(
     (2, 56_065_531_834_126_054),  # n - N = 4 (2**53 + ...) + ...: a float midpoint; was a 500
     (2, 2**60 + 2 + 2**6),  # n - N = 2**60 + 2**6: a float midpoint (ulp 2**8)
     (3, 10**30 + 3),  # n - N = 10**30 exactly, a 20-digit text tie candidate
+    # n - N one below a 20-digit text midpoint of 71 digits: the truth rounds down (a
+    # relative offset of 2**-160 would cross the midpoint; an absolute one must be used)
+    (2, 2 + (123456789012345678905 * 10**50) - 1),
     (2**64, 2**64 * 200 + 1),
     (2**64, 2**64 * 94 + 2**64 // 2),  # just past the saturation threshold 0.7 (65 + 70)
     (10**6 + 3, (10**6 + 3) * 10**9),

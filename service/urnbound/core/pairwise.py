@@ -276,18 +276,19 @@ def _saturated(size: int, count: int) -> bool:
 def _saturated_figures(size: int, count: int) -> tuple[Magnitude, Magnitude]:
     """distinct = N - e and duplicates = n - N + e, e = N (1 - 1/N)**n, for n/N that large.
 
-    There (``_saturated``) e < 2**-70. An integer v >= 1 (here N or n - N) is at least v
-    2**-68 from every rounding boundary of a float or of 20-digit text other than v itself
-    (half a float step is v 2**-54 or more, half a unit in the 20th digit v 5e-21 or more),
-    yet v itself may be such a boundary: a tie only e's sign breaks, and no precision
-    decides it, e having about n/N bits below the point. Both figures are therefore reported
-    from the rationals N (1 - d) and (n - N)(1 + d), d = 2**-160: their offsets, like e, are
-    positive and below v 2**-68, so they lie on the same side of every boundary as the true
-    values and round exactly as those do.
+    There (``_saturated``) e < 2**-70. Every rounding boundary of a float or of 20-digit text
+    other than an integer v >= 1 itself (here N or n - N) is at least 2**-68 from v: beyond
+    2**53 (floats) and 10**20 (text) the boundaries are integers, and below, half a float
+    step is v 2**-54 or more and half a unit in the 20th digit v 5e-21 or more. Yet v itself
+    may be a boundary: a tie only e's sign breaks, and no precision decides it, e having
+    about n/N bits below the point. Both figures are therefore reported from the rationals
+    N - t and n - N + t, t = 2**-160: offsets that, like e, are positive and below 2**-68,
+    so they lie on the same side of every boundary as the true values and round exactly as
+    those do.
     """
-    shift = 160
-    below = magnitude_of_fraction(size * ((1 << shift) - 1), 1 << shift)
-    above = magnitude_of_fraction((count - size) * ((1 << shift) + 1), 1 << shift)
+    unit = 1 << 160  # t = 1 / unit
+    below = magnitude_of_fraction(size * unit - 1, unit)
+    above = magnitude_of_fraction((count - size) * unit + 1, unit)
     return below, above
 
 
