@@ -76,7 +76,7 @@ def test_curve_chart_has_both_probabilities_against_the_count(client: FlaskClien
     texts = texts_of(response.data)
     assert "identifiers drawn (count, log scale)" in texts
     assert "probability (log scale)" in texts
-    assert {"P(some two equal)", "P(all distinct)"} <= set(texts)
+    assert {"P(some two identifiers are equal)", "its complement"} <= set(texts)
     assert {"1e4", "1e6", "1e8", "1e10"} <= set(texts)
 
 

@@ -2,14 +2,24 @@
 
 from __future__ import annotations
 
+from fractions import Fraction
+
 import mpmath
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
-from tests.core._reference import exact_risk, high_precision_risk, ln_of_text, relative_gap
+from tests.core._reference import (
+    exact_risk,
+    fraction_of_text,
+    high_precision_risk,
+    ln_of_text,
+    relative_gap,
+    rounded_candidates,
+)
 
-from urnbound.core.curves import curve_counts, risk_curve
+from urnbound.core.curves import curve_counts, occupancy_curve, risk_curve
 from urnbound.core.errors import DomainError
+from urnbound.core.occupancy_results import AT_LEAST, BELOW, Rule
 
 
 def test_birthday_curve_matches_the_published_table() -> None:
@@ -17,22 +27,22 @@ def test_birthday_curve_matches_the_published_table() -> None:
     # 11.7 % / 41.1 % / 70.6 % / 89.1 % / 97.0 % / 99.4 % / 99.9 %
     curve = risk_curve(365, 10, 70, 7, "linear")
     assert curve.counts == (10, 20, 30, 40, 50, 60, 70)
-    shown = [round(100 * r.collision.value, 1) for r in curve.risks]
+    shown = [round(100 * p.risk.value, 1) for p in curve.points]
     assert shown == [11.7, 41.1, 70.6, 89.1, 97.0, 99.4, 99.9]
-    for count, risk in zip(curve.counts, curve.risks, strict=True):
-        exact = exact_risk(365, count)  # sympy rationals (tests/core/_reference.py)
-        assert risk.exact == exact
+    for point in curve.points:
+        # sympy rationals (tests/core/_reference.py), the decimal text correctly rounded
+        assert fraction_of_text(point.risk.decimal) in rounded_values(exact_risk(365, point.count))
     assert curve.methods == ("exact",)
 
 
 def test_large_curve_risks_match_mpmath() -> None:
     curve = risk_curve(2**128, 10**10, 10**20, 6)
     assert curve.counts == tuple(10**k for k in (10, 12, 14, 16, 18, 20))
-    for count, risk in zip(curve.counts, curve.risks, strict=True):
-        ref = high_precision_risk(2**128, count)  # mpmath log-gamma at high precision
-        assert relative_gap(ref.mp, ln_of_text(ref.mp, risk.collision.decimal),
+    for point in curve.points:
+        ref = high_precision_risk(2**128, point.count)  # mpmath log-gamma at high precision
+        assert relative_gap(ref.mp, ln_of_text(ref.mp, point.risk.decimal),
                             ref.ln_risk) <= 1e-19
-        assert relative_gap(ref.mp, ln_of_text(ref.mp, risk.no_collision.decimal),
+        assert relative_gap(ref.mp, ln_of_text(ref.mp, point.complement.decimal),
                             ref.ln_no_collision) <= 1e-19
 
 
@@ -69,3 +79,23 @@ def test_bad_ranges_name_their_field(low: int, high: int, spacing: str, field: s
     with pytest.raises(DomainError) as caught:
         curve_counts(low, high, 10, spacing)
     assert caught.value.field == field
+
+
+def rounded_values(x: Fraction) -> set[Fraction]:
+    """The 20-digit roundings of ``x`` the core may print (tests/core/_reference.py)."""
+    return {Fraction(m) * Fraction(10) ** (e - 19) for m, e in rounded_candidates(x)}
+
+
+def test_occupancy_curve_three_sharing_a_day() -> None:
+    # Diaconis and Mosteller (1989): 88 people for P(some day shared by three) >= 1/2
+    curve = occupancy_curve(365, 87, 88, 2, "linear", Rule(BELOW, 3))
+    assert [p.count for p in curve.points] == [87, 88]
+    assert curve.points[0].risk.value < 0.5 <= curve.points[1].risk.value
+
+
+def test_coverage_curve_is_the_complement_of_the_surjection_count() -> None:
+    # P(all k values seen in n draws) = S2(n, k) k! / k^n (OEIS A008277): S2(10, 5) = 42525
+    curve = occupancy_curve(5, 5, 10, 2, "linear", Rule(AT_LEAST, 1))
+    seen = Fraction(42525 * 120, 5**10)
+    assert fraction_of_text(curve.points[-1].complement.decimal) in rounded_values(seen)
+    assert fraction_of_text(curve.points[-1].risk.decimal) in rounded_values(1 - seen)

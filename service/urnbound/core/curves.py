@@ -1,4 +1,7 @@
-"""Risk curves: counts spread over a range (log or evenly spaced) and the pairwise risk at each.
+"""Risk curves: counts spread over a range (log or evenly spaced) and a chance at each count.
+
+The chance is the pairwise collision risk, or an occupancy chance (some bucket reaching
+a load, some bucket used too few times; ``occupancy.occupancy_risk``).
 
 The counts are sample points, not answers: they are formed once, rounded to whole
 numbers, and each risk is then computed at its count exactly as ``/v1/collisions`` would
@@ -13,33 +16,52 @@ always ``low`` and the last ``high``.
 
 from __future__ import annotations
 
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 
 from mpmath import libmp
 
 from urnbound.core import precision as mp
 from urnbound.core.errors import DomainError
-from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, SERIES_EXACT_DIGIT_LIMIT
+from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, MAX_ITEMS, SERIES_EXACT_DIGIT_LIMIT
+from urnbound.core.occupancy import occupancy_risk
+from urnbound.core.occupancy_results import Rule
 from urnbound.core.pairwise import collision_risk
-from urnbound.core.results import CollisionRisk
+from urnbound.core.results import Magnitude
 
 #: The two spacings of a curve's counts.
 SPACINGS = ("log", "linear")
 
 
 @dataclass(frozen=True, slots=True)
-class RiskCurve:
-    """The pairwise risk at each of ``counts`` draws from ``size`` values.
+class CurvePoint:
+    """One count of a curve and the chance of the event at it.
 
-    :ivar risks: one per count, in rising order of count.
+    :ivar risk: P(the event: some two equal, some bucket at the load, some bucket short).
+    :ivar complement: 1 - risk, with its own relative accuracy.
+    """
+
+    count: int
+    risk: Magnitude
+    complement: Magnitude
+    relative_error_bound: float
+    method: str
+
+
+@dataclass(frozen=True, slots=True)
+class RiskCurve:
+    """The chance of one event at each of a range of counts, in rising order of count.
+
     :ivar methods: the methods used, each once, in the order first met.
     """
 
     size: int
-    counts: tuple[int, ...]
-    risks: tuple[CollisionRisk, ...]
+    points: tuple[CurvePoint, ...]
     methods: tuple[str, ...]
+
+    @property
+    def counts(self) -> tuple[int, ...]:
+        return tuple(point.count for point in self.points)
 
 
 def curve_counts(low: int, high: int, points: int, spacing: str = "log") -> tuple[int, ...]:
@@ -88,14 +110,45 @@ def risk_curve(
     *,
     exact_digit_limit: int = DEFAULT_EXACT_DIGIT_LIMIT,
 ) -> RiskCurve:
-    """The pairwise risk at up to ``points`` counts from ``low`` to ``high``.
+    """The pairwise collision risk at up to ``points`` counts from ``low`` to ``high``.
 
     >>> curve = risk_curve(365, 10, 70, 3, "linear")
-    >>> curve.counts, [r.collision.decimal[:6] for r in curve.risks]
+    >>> curve.counts, [p.risk.decimal[:6] for p in curve.points]
     ((10, 40, 70), ['1.1694', '8.9123', '9.9915'])
     """
-    counts = curve_counts(low, high, points, spacing)
     limit = min(exact_digit_limit, SERIES_EXACT_DIGIT_LIMIT)
-    risks = tuple(collision_risk(size, n, exact_digit_limit=limit) for n in counts)
-    methods = tuple(dict.fromkeys(r.method for r in risks))
-    return RiskCurve(size, counts, risks, methods)
+
+    def at(count: int) -> CurvePoint:
+        risk = collision_risk(size, count, exact_digit_limit=limit)
+        return CurvePoint(count, risk.collision, risk.no_collision, risk.relative_error_bound,
+                          risk.method)
+
+    return _curve(size, curve_counts(low, high, points, spacing), at)
+
+
+def occupancy_curve(buckets: int, low: int, high: int, points: int, spacing: str,
+                    rule: Rule) -> RiskCurve:
+    """P(some bucket breaks ``rule``) at up to ``points`` counts of items on ``buckets``.
+
+    A load k is the rule "below k" (the risk: some bucket holds k or more); coverage is
+    "at least a" (the risk: some bucket is used fewer than a times).
+
+    >>> from urnbound.core.occupancy_results import BELOW
+    >>> curve = occupancy_curve(365, 50, 150, 3, "linear", Rule(BELOW, 3))
+    >>> curve.counts, [p.risk.decimal[:6] for p in curve.points]
+    ((50, 100, 150), ['1.2637', '6.4586', '9.6476'])
+    """
+    if high > MAX_ITEMS:
+        raise DomainError(f"to must be at most {MAX_ITEMS:.0e} for loads and coverage",
+                          field="to")
+
+    def at(count: int) -> CurvePoint:
+        risk = occupancy_risk(buckets, count, rule)
+        return CurvePoint(count, risk.fails, risk.holds, risk.relative_error_bound, risk.method)
+
+    return _curve(buckets, curve_counts(low, high, points, spacing), at)
+
+
+def _curve(size: int, counts: tuple[int, ...], at: Callable[[int], CurvePoint]) -> RiskCurve:
+    found = tuple(at(count) for count in counts)
+    return RiskCurve(size, found, tuple(dict.fromkeys(p.method for p in found)))

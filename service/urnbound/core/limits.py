@@ -69,3 +69,5 @@ MIN_AT_LEAST = 1
 MAX_AT_LEAST = 1_000
 MIN_MULTIPLICITY = 2
 MAX_MULTIPLICITY = 256
+#: Most counts of a loads or coverage curve (an occupancy chance costs up to some 10 ms).
+MAX_OCCUPANCY_POINTS = 100

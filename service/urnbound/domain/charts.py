@@ -129,14 +129,15 @@ def _count_log10(text: str) -> float:
 
 
 def curve_chart(document: Mapping[str, Any]) -> bytes:
-    """The risk and its complement against the count, both on log scales."""
+    """The chance and its complement against the count, both on log scales."""
     points = [p for p in document["points"] if int(p["count"]) >= 1]
+    event = str(document.get("event", "the event"))
 
     def draw(figure: Any, axes: Any) -> None:
         counts = [_count_log10(p["count"]) for p in points]
-        risks = [y for y in (_log10(p["collision"]) for p in points) if y is not None]
-        for member, label, color in (("collision", "P(some two equal)", "#1f5fa8"),
-                                     ("no_collision", "P(all distinct)", "#3a8a3a")):
+        risks = [y for y in (_log10(p["risk"]) for p in points) if y is not None]
+        for member, label, color in (("risk", f"P({event})", "#1f5fa8"),
+                                     ("complement", "its complement", "#3a8a3a")):
             shown = [(x, _log10(p[member])) for x, p in zip(counts, points, strict=True)]
             shown = [(x, y) for x, y in shown if y is not None]
             axes.plot([x for x, _ in shown], [y for _, y in shown], color=color, linewidth=1.8,
@@ -144,9 +145,12 @@ def curve_chart(document: Mapping[str, Any]) -> bytes:
         if risks:  # the scale follows the risk; a complement far below it leaves the frame
             _risk_limits(axes, risks)
         _power_ticks(axes.xaxis)
-        axes.set_xlabel("identifiers drawn (count, log scale)")
+        items = "identifiers drawn" if document.get("question", "collisions") == "collisions" \
+            else "items placed"
+        axes.set_xlabel(f"{items} (count, log scale)")
         axes.set_ylabel("probability (log scale)")
-        axes.set_title(f"Collision risk: {document['space']['description']}", fontsize=9)
+        axes.set_title(f"{str(document.get('question', 'collisions')).capitalize()}: "
+                       f"{document['space']['description']}", fontsize=9)
         axes.legend(loc="center left", fontsize=8)
 
     return _svg(draw)
