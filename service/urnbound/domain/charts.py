@@ -21,9 +21,11 @@ from typing import Any, Final
 
 #: The media type of a chart.
 SVG_MEDIA_TYPE: Final = "image/svg+xml"
-#: Size of a chart in inches at CHART_DPI: 640 x 360 pixels, a dashboard panel.
-CHART_SIZE: Final = (6.4, 3.6)
-CHART_DPI: Final = 100
+#: Size of a chart in inches: 640 x 360 CSS pixels (96 to the inch; the SVG says 480 x 270
+#: pt), a dashboard panel.
+CHART_PIXELS: Final = (640, 360)
+CHART_SIZE: Final = (CHART_PIXELS[0] / 96, CHART_PIXELS[1] / 96)
+CHART_DPI: Final = 96
 #: matplotlib's settings are process-wide: one chart is drawn at a time.
 _DRAWING = threading.Lock()
 _STYLE: Final[dict[str, Any]] = {"svg.fonttype": "none", "svg.hashsalt": "urnbound",
