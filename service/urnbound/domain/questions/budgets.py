@@ -16,7 +16,7 @@ of issued + rate Y (g^(t/Y) - 1) / ln g for a year Y; it is exact with a steady 
 and certified otherwise. Time-ordered layouts are not projected here (their risk
 depends on how identifiers spread over ticks; see /v1/rates).
 
-Example: ``GET /v1/budgets?bits=64&issued=4e7&rate=2e6&per=P1D&horizon=P730D&max_risk=1e-6``
+Example: ``GET /v1/budgets?bits=64&issued=4e7&rate=2e6&per=P1D&horizon=P730D&max_risk=1e-3``
 """
 
 from __future__ import annotations
@@ -186,5 +186,5 @@ QUESTION = Question(
     compute=_answer,
     chart=charts.budget_chart,
     example={"bits": "64", "issued": "4e7", "rate": "2e6", "per": "P1D", "horizon": "P730D",
-             "max_risk": "1e-6", "points": "5"},
+             "max_risk": "1e-3", "points": "5"},
 )
