@@ -63,7 +63,7 @@ def trivial_holds(buckets: int, count: int, rule: Rule) -> bool | None:
     """True or False when the rule surely holds or surely fails, else ``None``.
 
     Below k: always holds for n < k, never for n > (k - 1) N (pigeonhole). At least a:
-    never for n < a N; always when a N = 0 is impossible, so only the first case.
+    never for n < a N; always with one bucket (and n >= a).
     """
     if rule.kind == BELOW:
         if count < rule.level:
@@ -73,6 +73,8 @@ def trivial_holds(buckets: int, count: int, rule: Rule) -> bool | None:
         return None
     if count < rule.level * buckets:
         return False
+    if buckets == 1:
+        return True  # the one bucket holds every item
     return None
 
 
