@@ -113,7 +113,7 @@ def test_per_and_rate_per_second_agree(client: FlaskClient) -> None:
     ("bits=64&rate=5&max_risk=1e-6", "horizon", "missing"),
     ("bits=64&rate=5&horizon=P1D&max_risk=1", "max_risk", "up to but not including 1"),
     ("bits=64&rate=5&horizon=P1D&max_risk=1e-6&issued=-4", "issued", "from 0 to 2^8192"),
-    ("format=uuid-v7&rate=5&horizon=P1D&max_risk=1e-6", "space", "time-ordered"),
+    ("format=uuid-v7&rate=5&horizon=P1D&max_risk=1e-6&growth=2", "growth", "steady rate"),
 ])
 def test_bad_input_is_a_problem_naming_the_field_and_range(
     client: FlaskClient, conforms: Conforms, query: str, field: str, phrase: str
@@ -145,3 +145,19 @@ def test_cli_json_is_the_api_body(client: FlaskClient) -> None:
     assert result.exit_code == 0, result.output
     body = client.get(f"{PATH}?{LEDGER}&max_risk=1e-3&points=3").get_data(as_text=True)
     assert result.output.strip() == body
+
+
+def test_a_time_ordered_layout_accrues_risk_per_tick(client: FlaskClient, conforms: Conforms
+                                                     ) -> None:
+    response = client.get(f"{PATH}?format=uuid-v7&rate=1e6&horizon=P365D&max_risk=1e-9"
+                          "&points=3")
+    assert response.status_code == 200, response.get_data(as_text=True)
+    conforms(response, PATH)
+    body = response.get_json()
+    # the same figure as /v1/collisions answers by the tick model for a year at 1e6/s
+    year = client.get("/v1/collisions?format=uuid-v7&rate=1e6&duration=P365D").get_json()
+    assert body["at_horizon"]["collision"] == year["collision"]
+    assert body["method"] == "tick-model"
+    exhausted = body["exhausted_after"]
+    assert exhausted["collision_before"]["value"] <= 1e-9 < exhausted["collision"]["value"]
+    assert body["capacity"] == exhausted["count_before"]

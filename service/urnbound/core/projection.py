@@ -38,6 +38,7 @@ import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from fractions import Fraction
+from typing import TYPE_CHECKING, Union
 
 from mpmath import libmp
 from mpmath.libmp import libmpi
@@ -51,6 +52,10 @@ from urnbound.core.precision import Real
 from urnbound.core.results import CapacityAnswer, CollisionRisk
 from urnbound.core.search import RiskInterval, certified_boundary
 
+if TYPE_CHECKING:
+    from urnbound.core.tick_budgets import TickCapacity
+    from urnbound.core.ticks import TickRisk
+
 #: Seconds in the year the growth factor applies to: 365 days.
 YEAR_SECONDS = 365 * 86_400
 #: Doublings of the precision of one count enclosure before giving up.
@@ -61,6 +66,8 @@ COUNT_GUARD_BITS = 64
 WIDENING_BITS = 6
 
 Interval = tuple[Real, Real]
+#: The risk at a moment: pairwise, or the tick model's for a time-ordered layout.
+PointRisk = Union[CollisionRisk, "TickRisk"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -281,12 +288,13 @@ class ProjectedPoint:
 
     :ivar seconds: the moment, in seconds from now (exact).
     :ivar count: n(t), the identifiers issued by then.
-    :ivar risk: the pairwise risk of ``count`` identifiers.
+    :ivar risk: the pairwise risk of ``count`` identifiers (for a time-ordered layout, the
+        tick model's risk of the identifiers issued by then).
     """
 
     seconds: Fraction
     count: int
-    risk: CollisionRisk
+    risk: PointRisk
 
 
 @dataclass(frozen=True, slots=True)
@@ -319,7 +327,7 @@ class BudgetProjection:
     max_risk: Fraction
     schedule: IssueSchedule
     horizon: Fraction
-    capacity: CapacityAnswer
+    capacity: CapacityAnswer | TickCapacity
     now: ProjectedPoint
     at_horizon: ProjectedPoint
     exhausted: Exhaustion | None

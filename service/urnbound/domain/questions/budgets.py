@@ -13,8 +13,13 @@ over the capacity at ``max_risk``; and ``series``, ``points`` evenly spaced mome
 
 The count issued by time t is the whole part of issued + rate t, or, with growth g,
 of issued + rate Y (g^(t/Y) - 1) / ln g for a year Y; it is exact with a steady rate
-and certified otherwise. Time-ordered layouts are not projected here (their risk
-depends on how identifiers spread over ticks; see /v1/rates).
+and certified otherwise.
+
+A time-ordered layout (``format=uuid-v7``, or ``tick`` + ``random_bits``) accrues risk per
+tick: its risk is the tick model's (see /v1/rates) over the time the identifiers take at
+the rate, the ``issued`` ones taken to have been issued at the same steady rate before now
+(growth is refused there); ``capacity`` is then the count issued by the last second within
+max_risk at that rate.
 
 Example: ``GET /v1/budgets?bits=64&issued=4e7&rate=2e6&per=P1D&horizon=P730D&max_risk=1e-3``
 """
@@ -25,11 +30,20 @@ from collections.abc import Iterable
 from fractions import Fraction
 from typing import Any
 
+from urnbound.core.errors import DomainError
 from urnbound.core.exact import magnitude_of_fraction
 from urnbound.core.limits import DEFAULT_POINTS
-from urnbound.core.projection import BudgetProjection, IssueSchedule, ProjectedPoint, project_budget
-from urnbound.core.results import CollisionRisk
+from urnbound.core.projection import (
+    BudgetProjection,
+    IssueSchedule,
+    PointRisk,
+    ProjectedPoint,
+    project_budget,
+)
+from urnbound.core.tick_budgets import project_tick_budget
 from urnbound.domain import charts
+from urnbound.domain.errors import InvalidQuery
+from urnbound.domain.formats import TimeOrderedSpace
 from urnbound.domain.inputs import Inputs
 from urnbound.domain.parameters import MAX_RISK, SPACE
 from urnbound.domain.question import (
@@ -49,7 +63,6 @@ from urnbound.domain.schedules import (
     PER,
     POINTS,
     elapsed_text,
-    refuse_time_ordered,
 )
 
 
@@ -85,9 +98,10 @@ def _exhausted(projection: BudgetProjection) -> dict[str, Any] | None:
     }
 
 
-def _risks(projection: BudgetProjection) -> Iterable[CollisionRisk]:
+def _risks(projection: BudgetProjection) -> Iterable[PointRisk]:
     yield projection.capacity.at_count
-    yield projection.capacity.one_more
+    if projection.capacity.one_more is not None:
+        yield projection.capacity.one_more
     for point in projection.series:
         yield point.risk
     if projection.exhausted is not None:
@@ -121,10 +135,18 @@ def budget_answer(inputs: Inputs, projection: BudgetProjection) -> Answer:
 
 
 def _answer(inputs: Inputs, context: Context) -> Answer:
-    refuse_time_ordered(inputs)
-    projection = project_budget(
-        inputs["space"].size, schedule_of(inputs), inputs["horizon"], inputs["max_risk"],
-        inputs["points"] or DEFAULT_POINTS, exact_digit_limit=context.exact_digit_limit)
+    space, points = inputs["space"], inputs["points"] or DEFAULT_POINTS
+    if isinstance(space, TimeOrderedSpace):
+        try:
+            projection = project_tick_budget(space.random_bits, space.tick_seconds,
+                                             schedule_of(inputs), inputs["horizon"],
+                                             inputs["max_risk"], points)
+        except DomainError as error:
+            raise InvalidQuery({error.field or "space": [error.detail]}) from None
+    else:
+        projection = project_budget(
+            space.size, schedule_of(inputs), inputs["horizon"], inputs["max_risk"], points,
+            exact_digit_limit=context.exact_digit_limit)
     return budget_answer(inputs, projection)
 
 
