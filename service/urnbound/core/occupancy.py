@@ -23,7 +23,7 @@ Choice of method, by estimated cost and by regime, never by a fixed n:
    plus the truncation estimate) is at most ``TARGET_BOUND``; then the recurrences up to
    ``occupancy_series.MAX_STEPS`` steps.
 7. Otherwise exact if its cost is at most ``EXACT_MAX_COST`` (measured under 50 ms),
-   else whichever of 4 and 5 has the smaller bound, reported as it is.
+   else whichever approximate answer has the smaller bound, reported as it is.
 """
 
 from __future__ import annotations
@@ -55,8 +55,9 @@ from urnbound.core.saddle import log_holds
 
 #: Exact counts estimated at most this many bit-operations are formed first (~2 ms).
 EXACT_FIRST_COST = 4_000_000
-#: Largest exact cost taken when no approximate method reaches its target (~30 ms).
-EXACT_MAX_COST = 150_000_000
+#: Largest exact cost taken when no approximate method reaches its target: measured at
+#: about 30 ms on the slowest form (at least a >= 2), 5 ms below k (bench_occupancy.py).
+EXACT_MAX_COST = 60_000_000
 #: Recurrences of at most this many inner steps are tried before the saddle point (~1 ms).
 CHEAP_STEPS = 1_000
 #: Relative bound an approximate method must reach to be taken before the exact path.

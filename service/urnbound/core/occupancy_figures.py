@@ -125,7 +125,8 @@ def likely_maximum(buckets: int, count: int) -> int:
     """The smallest j with N P(Binomial(n, 1/N) > j) < 1/2.
 
     Found by bisection over j on a float estimate of the tail, then settled by at most
-    MAX_SETTLE_STEPS unit steps on the ball figures (decided on their 20-digit texts).
+    MAX_SETTLE_STEPS unit steps on the ball figures (decided on their 20-digit texts);
+    above MAX_SETTLED_COUNT items the estimate is kept unsettled.
 
     >>> likely_maximum(365, 23)
     2
@@ -142,11 +143,16 @@ def likely_maximum(buckets: int, count: int) -> int:
         else:
             low = middle
     guess = high if _log_expected_above(buckets, count, low) >= math.log(0.5) else low
+    if count > MAX_SETTLED_COUNT:
+        return guess  # each settling step would cost a bulk binomial tail of milliseconds
     return _settled_maximum(buckets, count, guess)
 
 
 #: Unit steps that settle the float estimate of the likely maximum on the ball figures.
 MAX_SETTLE_STEPS = 16
+#: Above this many items the float estimate is kept as it is (off by a few loads at most:
+#: the normal tail with a continuity correction, whose error is O(1/sigma) in the tail).
+MAX_SETTLED_COUNT = 10**7
 
 
 def _settled_maximum(buckets: int, count: int, guess: int) -> int:
