@@ -80,6 +80,8 @@ class TickSeconds:
                          - _log2(self.tick))
         if log2_duration > 60:
             return self.last
+        if self.past > 2**62:  # a past that long is over any budget the guess can place
+            return 0
         guess: int = math.ceil(2.0**log2_duration - float(self.past))
         return max(0, guess)
 
