@@ -84,3 +84,9 @@ def test_growth_is_refused_for_time_ordered_layouts() -> None:
         project_tick_budget(74, MS, IssueSchedule(0, Fraction(5), Fraction(2)),
                             Fraction(86_400), Fraction(1, 10**9), 2)
     assert caught.value.field == "growth"
+
+
+def test_a_past_too_long_for_a_float_is_already_over() -> None:
+    schedule = IssueSchedule(10**2000, Fraction(37, 10))
+    projection = project_tick_budget(16, Fraction(1), schedule, Fraction(1), Fraction(1, 2), 2)
+    assert projection.exhausted is not None and projection.exhausted.already
