@@ -89,13 +89,15 @@ def main() -> int:
     print(f"Exact path (first below {EXACT_FIRST_COST:,} bit-operations, at most "
           f"{EXACT_MAX_COST:,}):")
     print()
-    print("| buckets | items | rule | estimated cost | exact ms |")
-    print("|---:|---:|---|---:|---:|")
+    print("| buckets | items | rule | estimated cost | exact ms | taken by the engine |")
+    print("|---:|---:|---|---:|---:|---|")
     for buckets, count, rule in EXACT_CASES:
         cost = exact_cost(buckets, count, rule)
         seconds = median_seconds(lambda b=buckets, c=count, r=rule: allowed_outcomes(b, c, r), 3)
+        taken = "first" if cost <= EXACT_FIRST_COST else (
+            "as a fallback" if cost <= EXACT_MAX_COST else "never")
         print(f"| {buckets} | {count} | {rule.kind} {rule.level} | {cost:,} | "
-              f"{seconds * 1e3:.2f} |")
+              f"{seconds * 1e3:.2f} | {taken} |")
     return 0
 
 

@@ -217,8 +217,10 @@ def _log_expected_at_least(buckets: int, count: int, k: int) -> float:
     log_pmf = (math.lgamma(count + 1) - math.lgamma(k + 1) - math.lgamma(count - k + 1)
                + k * math.log(p) + (count - k) * math.log1p(-p))
     ratio = (count - k) * p / ((k + 1) * (1 - p))
-    if ratio >= 1:  # k is at or below the mode: the tail holds about half the law or more
-        return math.log(buckets) + math.log(0.5)
+    if ratio > 0.9:  # near the bulk: the normal tail with a continuity correction
+        spread = math.sqrt(count * p * (1 - p))
+        upper = 0.5 * math.erfc((k - 0.5 - count * p) / (spread * math.sqrt(2)))
+        return math.log(buckets) + math.log(max(upper, 1e-300))
     tail = -math.log1p(-ratio)
     return math.log(buckets) + min(log_pmf + tail, 0.0)
 
