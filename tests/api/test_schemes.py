@@ -188,6 +188,8 @@ GOOD = ('[[scheme]]\nname = "{name}"\nbits = 64\ncounted_at = 2026-11-01T00:00:0
      "counted_at"),
     (GOOD.format(name="a").replace('max_risk = "1e-6"', "max_risk = 2"), "a", "max_risk"),
     (GOOD.format(name="a") + "points = 40\n", "a", "points"),
+    (GOOD.format(name="a").replace("bits = 64", 'format = "uuid-v7"') + "growth = 2\n", "a",
+     "growth"),
 ])
 def test_a_bad_file_stops_start_up_naming_scheme_and_field(
     tmp_path: Path, text: str, scheme: str, field: str
@@ -204,3 +206,18 @@ def test_a_bad_file_stops_start_up_naming_scheme_and_field(
 def test_a_missing_file_stops_start_up(tmp_path: Path) -> None:
     with pytest.raises(SchemesError, match="cannot be read"):
         make_app(tmp_path / "absent.toml", FrozenClock(START))
+
+
+def test_a_time_ordered_scheme_is_watched_by_the_tick_model(tmp_path: Path) -> None:
+    path = tmp_path / "schemes.toml"
+    path.write_text('[[scheme]]\nname = "events"\nformat = "uuid-v7"\nissued = "3.6e9"\n'
+                    'counted_at = 2026-11-30T23:00:00Z\nrate = "1e6"\nmax_risk = "1e-9"\n',
+                    encoding="utf-8")
+    client = make_app(path, FrozenClock(START)).test_client()
+    body = client.get("/v1/schemes/events").get_json()
+    # an hour at a million a second on top of 3.6e9: two hours' worth at that rate
+    assert body["now"]["count"] == "7200000000"
+    same = client.get("/v1/budgets?format=uuid-v7&issued=7.2e9&rate=1e6&horizon=P3650D"
+                      "&max_risk=1e-9&points=12").get_json()
+    assert body["exhausted_after"] == same["exhausted_after"]
+    assert body["method"] == "tick-model"

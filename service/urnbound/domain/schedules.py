@@ -256,9 +256,9 @@ SPACING = Parameter(
 
 
 def refuse_time_ordered(inputs: Inputs) -> None:
-    """Refuse a time-ordered space (curves and schemes): its tick model takes no count."""
+    """Refuse a time-ordered space (curves): its tick model takes no count."""
     if getattr(inputs["space"], "tick_seconds", None) is not None:
         raise InvalidQuery({"space": [
-            "curves and watched schemes are drawn for a space whose identifiers may coincide "
-            "at any time: a time-ordered layout (format=uuid-v7, or tick with random_bits) "
-            "is answered by /v1/budgets, /v1/collisions and /v1/rates with a rate"]})
+            "curves are drawn for a space whose identifiers may coincide at any time: a "
+            "time-ordered layout (format=uuid-v7, or tick with random_bits) is answered by "
+            "/v1/budgets, /v1/collisions and /v1/rates with a rate"]})

@@ -34,12 +34,13 @@ from fractions import Fraction
 from pathlib import Path
 from typing import Any
 
-from urnbound.core.projection import BudgetProjection, project_budget
+from urnbound.core.projection import BudgetProjection, IssueSchedule, project_budget
+from urnbound.core.tick_budgets import project_tick_budget
 from urnbound.domain.errors import InvalidQuery
+from urnbound.domain.formats import TimeOrderedSpace
 from urnbound.domain.inputs import Inputs
 from urnbound.domain.question import Answer, Context
 from urnbound.domain.questions import budgets
-from urnbound.domain.schedules import refuse_time_ordered
 
 #: Fields a scheme may have besides the parameters of /v1/budgets.
 OWN_FIELDS = ("name", "counted_at")
@@ -76,12 +77,21 @@ class Scheme:
 
     def projection(self, now: datetime, context: Context, points: int = SCHEME_POINTS
                    ) -> BudgetProjection:
-        """The scheme's budget as of ``now``."""
-        inputs = self.inputs
+        """The scheme's budget as of ``now``.
+
+        A time-ordered layout's budget starts from the count as of now, issued at the
+        steady rate before it (``core/tick_budgets.py``).
+        """
+        inputs, space = self.inputs, self.inputs["space"]
+        schedule = budgets.schedule_of(inputs)
+        if isinstance(space, TimeOrderedSpace):
+            issued_now = schedule.count_at(self.elapsed(now))
+            return project_tick_budget(space.random_bits, space.tick_seconds,
+                                       IssueSchedule(issued_now, schedule.rate),
+                                       inputs["horizon"], inputs["max_risk"], points)
         return project_budget(
-            inputs["space"].size, budgets.schedule_of(inputs), inputs["horizon"],
-            inputs["max_risk"], points, start=self.elapsed(now),
-            exact_digit_limit=context.exact_digit_limit)
+            space.size, schedule, inputs["horizon"], inputs["max_risk"], points,
+            start=self.elapsed(now), exact_digit_limit=context.exact_digit_limit)
 
     def answer(self, now: datetime, context: Context) -> Answer:
         """The members of the budget answer as of ``now``."""
@@ -135,7 +145,9 @@ def _scheme(table: Mapping[str, Any], where: str) -> Scheme:
     texts.setdefault("horizon", DEFAULT_HORIZON)
     try:
         inputs = budgets.QUESTION.load({field: [text] for field, text in texts.items()})
-        refuse_time_ordered(inputs)
+        if isinstance(inputs["space"], TimeOrderedSpace) and inputs["growth"] not in (None, 1):
+            raise InvalidQuery({"growth": ["a time-ordered layout is projected at a steady "
+                                           "rate: leave out growth (or give 1)"]})
     except InvalidQuery as error:
         field, messages = sorted(error.errors.items())[0]
         raise SchemesError(f"{where}: field {field!r}: {' '.join(messages)}") from None
