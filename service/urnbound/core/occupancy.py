@@ -91,7 +91,9 @@ def occupancy_risk(buckets: int, count: int, rule: Rule) -> OccupancyRisk:
     candidates: list[OccupancyRisk] = []
     steps = _recurrence_steps(buckets, count, rule)
     cheap = steps is not None and steps <= CHEAP_STEPS
-    methods = [_tail_answer, *([_recurrence_answer] if cheap else []), _saddle_answer]
+    rare = _breaking_is_rare(buckets, count, rule)
+    methods = [*([_tail_answer] if rare else []), *([_recurrence_answer] if cheap else []),
+               _saddle_answer]
     if steps is not None and not cheap and steps <= series.MAX_STEPS:
         methods.append(_recurrence_answer)
     for method in methods:
@@ -102,9 +104,42 @@ def occupancy_risk(buckets: int, count: int, rule: Rule) -> OccupancyRisk:
             candidates.append(found)
     if cost <= EXACT_MAX_COST:
         return _exact_answer(buckets, count, rule)
+    if not candidates and not rare:
+        found = _tail_answer(buckets, count, rule)
+        candidates += [] if found is None else [found]
     if not candidates:
         raise NoConvergence("no method reaches this question within its cost limit")
     return min(candidates, key=lambda answer: answer.relative_error_bound)
+
+
+#: The inclusion-exclusion bound is below S1 / 2: it is tried first only when a float
+#: estimate puts S1 below 2**-RARE_BITS (it needs S1 <= 2**-39 to reach TARGET_BOUND).
+RARE_BITS = 30
+
+
+def _breaking_is_rare(buckets: int, count: int, rule: Rule) -> bool:
+    """A float estimate of S1 = N P(bucket 1 breaks the rule) is below 2**-RARE_BITS.
+
+    Only the order of the methods depends on it: the estimate's error changes which method
+    is tried first, never a figure. ln of the binomial term next to the edge, plus a
+    geometric tail where the terms fall fast; near the bulk, "not rare".
+    """
+    if rule.kind == BELOW:
+        j = rule.level
+        ratio = (count - j) / ((j + 1) * (buckets - 1)) if buckets > 1 else math.inf
+    else:
+        j = rule.level - 1
+        ratio = j * (buckets - 1) / (count - j + 1) if count > j else 0.0
+    if ratio >= 0.5 or j > count or buckets == 1:
+        return False
+    log_size = math.log(buckets)
+    if j <= balls.MAX_PRODUCT_TERMS:
+        log_choose = sum(math.log(count - i) for i in range(j)) - math.lgamma(j + 1)
+    else:
+        log_choose = (math.lgamma(count + 1) - math.lgamma(j + 1)
+                      - math.lgamma(count - j + 1))
+    log_term = log_choose - j * log_size - (count - j) / buckets
+    return math.log(buckets) + log_term + math.log(2.0) < -RARE_BITS * math.log(2.0)
 
 
 # --- exact and pairwise -----------------------------------------------------------------------
