@@ -106,8 +106,10 @@ class IssueSchedule:
             raise DomainError("a moment before now", field="horizon")
         if seconds == 0:
             return self.issued
-        if self.growth == 1:
-            return math.floor(self.issued + self.rate * seconds)
+        if self.growth == 1:  # floor(issued + rate t), in integers
+            rate = self.rate
+            step = rate.numerator * seconds.numerator
+            return self.issued + step // (rate.denominator * seconds.denominator)
         return _settled(lambda prec: _floor_if_decided(self._enclosure(seconds, prec)),
                         first_bits or self.first_bits(seconds))
 
@@ -390,7 +392,8 @@ def project_budget(
     bits = schedule.first_bits(start + horizon) if schedule.growth != 1 else None
 
     def point(offset: Fraction) -> ProjectedPoint:
-        count = schedule.count_at(start + offset, bits)  # c(t) <= c(start + horizon)
+        moment = start + offset if start else offset
+        count = schedule.count_at(moment, bits)  # c(t) <= c(start + horizon)
         risk = risks.get(count)
         if risk is None:
             risk = risks[count] = collision_risk(size, count, exact_digit_limit=point_limit)

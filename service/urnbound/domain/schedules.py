@@ -8,7 +8,6 @@ checked before any number is built, and every refusal names the field and its ra
 
 from __future__ import annotations
 
-import math
 import re
 from fractions import Fraction
 
@@ -134,27 +133,23 @@ def elapsed_text(seconds: Fraction) -> str:
     """
     if seconds == 0:
         return "P0D"
-    whole = math.floor(seconds)
-    days, rest = divmod(whole, 86_400)
-    hours, rest = divmod(rest, 3_600)
-    minutes, secs = divmod(rest, 60)
+    whole, rest = divmod(seconds.numerator, seconds.denominator)  # integers: cheap
+    days, left = divmod(whole, 86_400)
+    hours, left = divmod(left, 3_600)
+    minutes, secs = divmod(left, 60)
     text = f"P{days}D" if days else "P"
     clock = ""
     if hours:
         clock += f"{hours}H"
     if minutes:
         clock += f"{minutes}M"
-    fraction = seconds - whole
-    if secs or fraction:
-        clock += f"{secs}{_fraction_digits(fraction)}S"
+    if secs or rest:
+        clock += f"{secs}{_fraction_digits(rest * 10**9 // seconds.denominator)}S"
     return text + ("T" + clock if clock else "")
 
 
-def _fraction_digits(fraction: Fraction) -> str:
-    """``.5`` for 1/2: up to nine decimals, rounded down to the nanosecond."""
-    if fraction == 0:
-        return ""
-    nanoseconds = math.floor(fraction * 10**9)
+def _fraction_digits(nanoseconds: int) -> str:
+    """``.5`` for 500,000,000 ns: up to nine decimals, none for 0."""
     return "." + f"{nanoseconds:09d}".rstrip("0") if nanoseconds else ""
 
 
