@@ -34,6 +34,8 @@ from urnbound.core.search import RiskInterval, certified_boundary
 
 #: Doublings of the draw count while looking for a proven top of the range.
 MAX_DOUBLINGS = 200
+#: Newton steps that polish the first guess of the fewest draws (each one engine answer).
+NEWTON_STEPS = 2
 
 
 @dataclass(frozen=True, slots=True)
@@ -195,6 +197,19 @@ class LoadFamily(_EngineFamily):
         hazard = -math.log1p(-float(max_risk)) if max_risk < Fraction(1, 2) else (
             -math.log(float(1 - max_risk)) if 1 - max_risk > Fraction(1, 10**300) else 690.0)
         wanted = math.log(max(hazard, 1e-300))
+        guess = self._solve(wanted)
+        if self.known(guess) is not None:
+            return guess
+        # One engine answer corrects the heuristic by the ratio it misses by at the guess.
+        answer = occupancy_risk(self.buckets, self.count, Rule(BELOW, guess))
+        actual = _log_hazard(answer)
+        if actual is None:
+            return guess
+        shift = actual - _log_expected_at_least(self.buckets, self.count, guess)
+        return self._solve(wanted - shift)
+
+    def _solve(self, wanted: float) -> int:
+        """The smallest k whose float estimate ln(N P(>= k)) is at most ``wanted``."""
         low, high = max(1, -(-self.count // self.buckets)), self.count + 1
         for _ in range(high.bit_length() + 2):
             if high - low <= 1:
@@ -205,6 +220,16 @@ class LoadFamily(_EngineFamily):
             else:
                 low = middle
         return high
+
+
+def _log_hazard(answer: OccupancyRisk) -> float | None:
+    """ln(-ln P(no bucket reaches the load)) from an engine answer."""
+    holds, fails = answer.holds, answer.fails
+    if holds.log10 is None or fails.log10 is None:
+        return None
+    if fails.log10 < -8:  # -ln(1 - r) = r (1 + r/2 + ...)
+        return fails.log10 * math.log(10)
+    return math.log(-holds.log10 * math.log(10))
 
 
 def _log_expected_at_least(buckets: int, count: int, k: int) -> float:
@@ -265,7 +290,29 @@ class CoverFamily(_EngineFamily):
                 high = middle
             else:
                 low = middle
-        return high
+        return self._polished(high, math.log(float(1 - max_risk)) if 1 - max_risk > Fraction(
+            1, 10**300) else -690.0)
+
+    def _polished(self, guess: int, log_target: float) -> int:
+        """Newton steps on ln P(covered) with the engine's value and the heuristic's slope.
+
+        d ln P / dn is about P(Poisson(n/N) = a - 1), the slope of -N P(Poisson(n/N) < a);
+        the steps are uncertified (the search proves the answer), at most NEWTON_STEPS.
+        """
+        count = guess
+        for _ in range(NEWTON_STEPS):
+            if not self.lowest < count < self.top:
+                return count
+            log10 = occupancy_risk(self.buckets, count, Rule(AT_LEAST, self.level)).holds.log10
+            if log10 is None:
+                return count
+            mean = count / self.buckets
+            slope = math.exp((self.level - 1) * math.log(mean) - mean - math.lgamma(self.level))
+            step = (log_target - log10 * math.log(10)) / max(slope, 1e-300)
+            if abs(step) < 1:
+                return count
+            count = min(max(count + round(step), self.lowest), self.top)
+        return count
 
 
 def _log_hazard_of_complement(max_risk: Fraction) -> float:
