@@ -116,3 +116,25 @@ def test_bonferroni_interval_holds_the_exact_value() -> None:
         assert Fraction(answer.fails.decimal) == pytest.approx(
             Fraction(exact.total - exact.allowed, exact.total),
             rel=answer.relative_error_bound, abs=0)
+
+
+@pytest.mark.parametrize(("buckets", "count", "rule"), [
+    (201_688_541, 78_556_445_709_715, Rule(BELOW, 537_552)),  # P ~ 1e-10908
+    (10**7, 8, Rule(BELOW, 3)),
+    (10**6, 53_815_511, Rule(AT_LEAST, 1)),  # N (ln N + 40): about 4e-18
+])
+def test_saddle_point_far_in_the_tail_agrees_with_the_proven_interval(
+        buckets: int, count: int, rule: Rule) -> None:
+    """Where the chance is tiny the saddle point may decline, but never claims too much.
+
+    The Bonferroni interval is proven; the saddle point's answer, if it gives one, must
+    lie within its own bound of it.
+    """
+    proven = occupancy._tail_answer(buckets, count, rule)
+    assert proven is not None and proven.relative_error_bound < 1e-12
+    estimate = occupancy._saddle_answer(buckets, count, rule)
+    if estimate is None:
+        return
+    true = WORK.mpf(proven.fails.decimal)
+    error = float(abs(WORK.mpf(estimate.fails.decimal) - true) / true)
+    assert error <= estimate.relative_error_bound + 2 * proven.relative_error_bound

@@ -17,6 +17,7 @@ used instead (also rigorous, slower near the bulk of the law).
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 
@@ -29,7 +30,10 @@ from urnbound.core.precision import Real
 from urnbound.core.results import Magnitude
 
 #: Most terms of a ratio series before the library's special function is used instead.
-MAX_SERIES_TERMS = 400
+MAX_SERIES_TERMS = 1_500
+#: A ratio series is used when its first ratio is below this (it then needs at most some
+#: prec * ln 2 / -ln(0.9), about 7 prec, terms; usually far fewer, as the ratios fall).
+SERIES_RATIO = 0.9
 #: Counts up to this are turned into falling products; above it, log-gamma is used.
 MAX_PRODUCT_TERMS = 256
 
@@ -159,7 +163,8 @@ def _ratio_sum(first: arb, ratio_at: Callable[[int], arb], terms: int) -> arb | 
     """first * (1 + r1 + r1 r2 + ...) over at most ``terms`` ratios, with the tail in the radius.
 
     ``ratio_at(i)`` is the i-th ratio (i >= 1), non-increasing in i and >= 0; ``None``
-    when the series would need more than MAX_SERIES_TERMS terms.
+    when the series would need more than MAX_SERIES_TERMS terms. Once a ratio r < 1 is
+    reached every later one is at most r, so the rest is below term * r / (1 - r).
     """
     total = arb(1)
     term = arb(1)
@@ -168,9 +173,10 @@ def _ratio_sum(first: arb, ratio_at: Callable[[int], arb], terms: int) -> arb | 
         ratio = ratio_at(i)
         term = term * ratio
         total += term
-        if ratio.upper() < 0.5 and term.upper() < floor.lower():
+        if ratio.upper() < 1:
             tail = term * ratio / (1 - ratio)
-            return first * widened(total, tail)
+            if tail.upper() < floor.lower():
+                return first * widened(total, tail)
     if terms <= MAX_SERIES_TERMS:
         return first * total
     return None
@@ -185,13 +191,16 @@ def poisson_at_least(k: int, mean: arb) -> arb:
     """
     if k <= 0:
         return arb(1)
-    if mean.upper() < 0.5 * (k + 1):
+    if mean.upper() < SERIES_RATIO * (k + 1):
         found = _ratio_sum(poisson_pmf(k, mean), lambda i: mean / (k + i), 10**9)
         if found is not None:
             return found
     # flint's regularized lower gamma is not reliable here (it may return an unbounded
-    # ball); the upper one is, and the difference loses only the bits the ball shows.
-    with precision(ctx.prec + 32):
+    # ball); the upper one is, and 1 - Q loses -log2 of the result, at most -log2 of the
+    # first term P(Poisson = k): that many bits are added.
+    y = float(mean.mid())
+    log_first = k * math.log(y) - y - math.lgamma(k + 1) if y > 0 else 0.0
+    with precision(ctx.prec + 32 + max(0, int(-log_first / math.log(2)))):
         value = 1 - mean.gamma_upper(k, regularized=1)
     return +value
 
@@ -205,7 +214,7 @@ def poisson_below(a: int, mean: arb) -> arb:
     """
     if a <= 0:
         return arb(0)
-    if mean.lower() > 2 * a:
+    if (a - 1) < SERIES_RATIO * mean.lower():
         found = _ratio_sum(poisson_pmf(a - 1, mean), lambda i: (a - i) / mean, a - 1)
         if found is not None:
             return found
@@ -225,7 +234,7 @@ def binomial_at_least(trials: int, p: arb, k: int) -> arb:
         return arb(0)
     q = 1 - p
     first_ratio = (trials - k) * p / ((k + 1) * q)
-    if first_ratio.upper() < 0.5:
+    if first_ratio.upper() < SERIES_RATIO:
         found = _ratio_sum(binomial_pmf(trials, k, p),
                            lambda i: (trials - k - i + 1) * p / ((k + i) * q), trials - k)
         if found is not None:
@@ -247,12 +256,18 @@ def binomial_below(trials: int, p: arb, a: int) -> arb:
     q = 1 - p
     top = a - 1
     first_ratio = top * q / ((trials - top + 1) * p)
-    if first_ratio.upper() < 0.5:
+    if first_ratio.upper() < SERIES_RATIO:
         found = _ratio_sum(binomial_pmf(trials, top, p),
                            lambda i: (top - i + 1) * q / ((trials - top + i) * p), top)
         if found is not None:
             return found
-    return 1 - p.beta_lower(a, trials - a + 1, regularized=1)
+    # 1 - P(>= a) loses -log2 of the result, at most -log2 of the term P(= a - 1).
+    chance = float(p.mid())
+    log_first = (math.lgamma(trials + 1) - math.lgamma(a) - math.lgamma(trials - a + 2)
+                 + (a - 1) * math.log(chance) + (trials - a + 1) * math.log1p(-chance))
+    with precision(ctx.prec + 32 + max(0, int(-log_first / math.log(2)))):
+        value = 1 - p.beta_lower(a, trials - a + 1, regularized=1)
+    return +value
 
 
 def require_bits(x: arb, bits: int, what: str) -> arb:

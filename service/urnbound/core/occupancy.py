@@ -130,7 +130,7 @@ def _breaking_is_rare(buckets: int, count: int, rule: Rule) -> bool:
     else:
         j = rule.level - 1
         ratio = j * (buckets - 1) / (count - j + 1) if count > j else 0.0
-    if ratio >= 0.5 or j > count or buckets == 1:
+    if ratio >= balls.SERIES_RATIO or j > count or buckets == 1:
         return False
     log_size = math.log(buckets)
     if j <= balls.MAX_PRODUCT_TERMS:
@@ -139,7 +139,8 @@ def _breaking_is_rare(buckets: int, count: int, rule: Rule) -> bool:
         log_choose = (math.lgamma(count + 1) - math.lgamma(j + 1)
                       - math.lgamma(count - j + 1))
     log_term = log_choose - j * log_size - (count - j) / buckets
-    return math.log(buckets) + log_term + math.log(2.0) < -RARE_BITS * math.log(2.0)
+    tail = -math.log1p(-ratio)  # the geometric bound on the rest of the tail
+    return math.log(buckets) + log_term + tail < -RARE_BITS * math.log(2.0)
 
 
 # --- exact and pairwise -----------------------------------------------------------------------

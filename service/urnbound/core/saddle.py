@@ -34,8 +34,9 @@ is subtracted, so both remainders cancel to first order in w:
 
 Three correction terms are kept. The truncation is estimated by
 4 (|G_4| + |G_3 - 1/(360 n**3)| / (N sigma**2)), the next term with a margin for the
-one after it; this is an estimate, not a theorem, and the tests check it against exact
-values on a grid. The expansion is not used when N sigma**2 is below ``MIN_SPREAD``.
+one after it, plus what evaluating a little off the saddle point costs (``_off_saddle``);
+this is an estimate, not a theorem, and the tests check it against exact values on a
+grid. The expansion is not used when N sigma**2 is below ``MIN_SPREAD``.
 Rounding is carried by the balls.
 """
 
@@ -239,9 +240,26 @@ def _corrections(buckets: int, count: int, y: arb, t: arb, rule: Rule, spread: a
         n = arb(count)
         first = g1 + 1 / (12 * n)
         third = g3 - 1 / (360 * n**3)
-        truncation = 4 * (abs(g4) + abs(third) / spread)
+        truncation = 4 * (abs(g4) + abs(third) / spread) + _off_saddle(
+            buckets, count, y, t, rule, spread, scaled[3])
         total = first + g2 + third
     return +total, +truncation
+
+
+def _off_saddle(buckets: int, count: int, y: arb, t: arb, rule: Rule, spread: arb,
+                skew: arb) -> arb:
+    """What evaluating at a point y a little off the saddle point can cost ln P.
+
+    y is an exact point within about 2**-prec of the saddle point, where N E X_y = n
+    exactly; the expansion is taken at the mean, so it misses the drift terms at
+    d = n - N E X_y: about d**2 / (2 N sigma**2) and, from the third Hermite term,
+    |l_3| |d| / (2 sqrt(N sigma**2)); N D also moves by about |d| t. Twice their sum
+    with |d| taken from its ball: small beside ln P unless P is within some 2**-prec
+    of 1, where it keeps the expansion from claiming accuracy it lacks.
+    """
+    drift = abs(count - buckets * y * (1 + rule.sign * t))
+    return 2 * (drift**2 / spread + abs(skew) * drift / spread.sqrt() + drift * abs(t)
+                + drift / spread)
 
 
 def _cumulants(y: arb, t: arb, rule: Rule) -> dict[int, arb]:
