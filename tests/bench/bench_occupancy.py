@@ -66,6 +66,8 @@ EXACT_CASES = (
     (1000, 400, Rule(BELOW, 4)),
     (200, 6000, Rule(AT_LEAST, 1)),
     (300, 700, Rule(AT_LEAST, 2)),
+    (149, 381, Rule(AT_LEAST, 2)),
+    (3, 1690, Rule(AT_LEAST, 378)),
 )
 
 

@@ -55,9 +55,10 @@ from urnbound.core.saddle import log_holds
 
 #: Exact counts estimated at most this many bit-operations are formed first (~2 ms).
 EXACT_FIRST_COST = 4_000_000
-#: Largest exact cost taken when no approximate method reaches its target: measured at
-#: about 30 ms on the slowest form (at least a >= 2), 5 ms below k (bench_occupancy.py).
-EXACT_MAX_COST = 60_000_000
+#: Largest exact cost taken when no approximate method reaches its target: the slowest
+#: form measured (at least a, few buckets, large a) takes up to 1.6 ms per million
+#: bit-operations, so this stays near 40 ms at worst (bench_occupancy.py).
+EXACT_MAX_COST = 25_000_000
 #: Recurrences of at most this many inner steps are tried before the saddle point (~1 ms).
 CHEAP_STEPS = 1_000
 #: Relative bound an approximate method must reach to be taken before the exact path.
