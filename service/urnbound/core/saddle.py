@@ -241,24 +241,29 @@ def _corrections(buckets: int, count: int, y: arb, t: arb, rule: Rule, spread: a
         first = g1 + 1 / (12 * n)
         third = g3 - 1 / (360 * n**3)
         truncation = 4 * (abs(g4) + abs(third) / spread) + _off_saddle(
-            buckets, count, y, t, rule, spread, scaled[3])
+            buckets, count, y, t, rule, spread, scaled[3], _spread_ratio(y, t, rule))
         total = first + g2 + third
     return +total, +truncation
 
 
 def _off_saddle(buckets: int, count: int, y: arb, t: arb, rule: Rule, spread: arb,
-                skew: arb) -> arb:
+                skew: arb, ratio: arb) -> arb:
     """What evaluating at a point y a little off the saddle point can cost ln P.
 
     y is an exact point within about 2**-prec of the saddle point, where N E X_y = n
     exactly; the expansion is taken at the mean, so it misses the drift terms at
-    d = n - N E X_y: about d**2 / (2 N sigma**2) and, from the third Hermite term,
+    d = n - N E X_y: -d**2 / (2 N sigma**2), which the form of N D used here offsets up
+    to d**2 |1/(N sigma**2) - 1/n| / 2, and from the third Hermite term about
     |l_3| |d| / (2 sqrt(N sigma**2)); N D also moves by about |d| t. Twice their sum
-    with |d| taken from its ball: small beside ln P unless P is within some 2**-prec
-    of 1, where it keeps the expansion from claiming accuracy it lacks.
+    (with d / (N sigma**2) for what is left) and |d| from its ball: small beside ln P
+    unless P is within some 2**-prec of 1, where it keeps the expansion from claiming
+    accuracy it lacks. An estimate of the same standing as the truncation estimate.
     """
     drift = abs(count - buckets * y * (1 + rule.sign * t))
-    return 2 * (drift**2 / spread + abs(skew) * drift / spread.sqrt() + drift * abs(t)
+    # 1/(N sigma**2) - 1/n = -v / (N sigma**2) with v = sigma**2 / lambda - 1, formed from
+    # v itself (relatively accurate) rather than as a difference of two reciprocals.
+    quadratic = drift**2 * abs(ratio) / spread
+    return 2 * (quadratic + abs(skew) * drift / spread.sqrt() + drift * abs(t)
                 + drift / spread)
 
 
