@@ -69,6 +69,8 @@ def relative_radius(x: arb) -> Real | None:
     ...     libmp.to_float(relative_radius(arb(1) / 3)) < 2**-70
     True
     """
+    if not x.is_finite():
+        return None
     mid, rad = to_real(x), _radius_real(x)
     low = libmp.mpf_sub(mid, rad, 64, libmp.round_floor)
     if not libmp.mpf_lt(libmp.fzero, low):

@@ -29,6 +29,7 @@ Choice of method, by estimated cost and by regime, never by a fixed n:
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from fractions import Fraction
 
 from flint import arb
@@ -98,7 +99,7 @@ def occupancy_risk(buckets: int, count: int, rule: Rule) -> OccupancyRisk:
     if steps is not None and not cheap and steps <= series.MAX_STEPS:
         methods.append(_recurrence_answer)
     for method in methods:
-        found = method(buckets, count, rule)
+        found = _attempt(method, buckets, count, rule)
         if found is not None:
             if found.relative_error_bound <= TARGET_BOUND:
                 return found
@@ -106,11 +107,24 @@ def occupancy_risk(buckets: int, count: int, rule: Rule) -> OccupancyRisk:
     if cost <= EXACT_MAX_COST:
         return _exact_answer(buckets, count, rule)
     if not candidates and not rare:
-        found = _tail_answer(buckets, count, rule)
+        found = _attempt(_tail_answer, buckets, count, rule)
         candidates += [] if found is None else [found]
     if not candidates:
         raise NoConvergence("no method reaches this question within its cost limit")
     return min(candidates, key=lambda answer: answer.relative_error_bound)
+
+
+def _attempt(method: Callable[[int, int, Rule], OccupancyRisk | None], buckets: int,
+             count: int, rule: Rule) -> OccupancyRisk | None:
+    """One approximate method's answer; ``None`` when it declines or cannot converge.
+
+    A method that fails (a series that does not settle, a step that runs away) only
+    leaves the choice to the next one: every answer still comes with its own bound.
+    """
+    try:
+        return method(buckets, count, rule)
+    except (NoConvergence, ValueError, ZeroDivisionError, OverflowError):
+        return None
 
 
 #: The inclusion-exclusion bound is below S1 / 2: it is tried first only when a float
@@ -272,7 +286,9 @@ def _saddle_answer(buckets: int, count: int, rule: Rule) -> OccupancyRisk | None
 def _bits_for(log_value: arb) -> int:
     """Working bits that give ln P an absolute accuracy of about 2**-START_BITS."""
     magnitude = abs(float(log_value.mid()))
-    return START_BITS + (int(magnitude).bit_length() if magnitude >= 1 else 0)
+    if not math.isfinite(magnitude) or magnitude < 1:
+        return START_BITS
+    return START_BITS + int(magnitude).bit_length()
 
 
 # --- reporting --------------------------------------------------------------------------------

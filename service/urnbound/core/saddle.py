@@ -219,7 +219,12 @@ def _u_minus_log1p(u: arb) -> arb:
 
 
 def _exponent(x: arb) -> int:
-    """e with |x| about 2**e (a very negative number for 0)."""
+    """e with |x| about 2**e (a very negative number for 0).
+
+    :raises NoConvergence: for a ball that is not finite (a step that ran away).
+    """
+    if not x.mid().is_finite():
+        raise NoConvergence("a value of the saddle-point computation is not finite")
     mantissa, exponent = x.mid().man_exp()
     if int(mantissa) == 0:
         return -(10**6)
