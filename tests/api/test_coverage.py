@@ -56,6 +56,7 @@ def test_used_twice_at_scale(client: FlaskClient, conforms: Conforms) -> None:
     ("query", "field"),
     [
         ("buckets=0&draws=5", "buckets"),
+        ("buckets=1&draws=5", "buckets"),
         ("buckets=10&draws=-5", "draws"),
         ("buckets=10&draws=5&at_least=0", "at_least"),
         ("buckets=10&draws=5&at_least=1001", "at_least"),

@@ -78,9 +78,11 @@ def test_large_hash_table(client: FlaskClient, conforms: Conforms) -> None:
     ("query", "field"),
     [
         ("buckets=0&count=5&load=2", "buckets"),
+        ("buckets=1&count=5&load=2", "buckets"),
         ("buckets=1e13&count=5&load=2", "buckets"),
         ("buckets=10&count=-1&load=2", "count"),
         ("buckets=10&count=1e16&load=2", "count"),
+        ("buckets=10&count=1000001&load=2", "count"),
         ("buckets=10&count=5&load=0", "load"),
         ("buckets=10&count=5&max_risk=1", "max_risk"),
         ("buckets=10&count=5&load=2&max_risk=0.1", "load"),

@@ -59,8 +59,9 @@ MAX_POINTS = 500
 SERIES_EXACT_DIGIT_LIMIT = 2_000
 #: Occupancy questions (loads, coverage, multiplicity): most buckets, most items or draws,
 #: highest load and floor, and the multiplicity range of /v1/collisions. The caps keep
-#: every special function the engine evaluates within a few milliseconds.
-MIN_BUCKETS = 1
+#: every special function the engine evaluates within a few milliseconds; one bucket
+#: (every item in it) is not a question the endpoints take.
+MIN_BUCKETS = 2
 MAX_BUCKETS = 10**12
 MAX_ITEMS = 10**15
 MIN_LOAD = 1
@@ -69,5 +70,8 @@ MIN_AT_LEAST = 1
 MAX_AT_LEAST = 1_000
 MIN_MULTIPLICITY = 2
 MAX_MULTIPLICITY = 256
+#: Most items per bucket on average in /v1/loads: past it the Poisson and binomial laws of
+#: one bucket need special functions of that size at every step (about 1 ms each).
+MAX_MEAN_LOAD = 10**5
 #: Most counts of a loads or coverage curve (an occupancy chance costs up to some 10 ms).
 MAX_OCCUPANCY_POINTS = 100

@@ -5,7 +5,8 @@ partitions). With ``load`` k: the chance that some bucket holds at least k items
 complement, the expected number of empty buckets and of buckets holding at least k, and
 the expected load profile (how many buckets hold exactly j items, for j up to the likely
 maximum, at most 64 rows). With ``max_risk`` r instead of ``load``: the smallest load k
-whose chance is at most r, proven on both sides (the chance at k - 1 exceeds r).
+whose chance is at most r, proven on both sides (the chance at k - 1 exceeds r). The mean
+load, count / buckets, may be at most 100,000.
 
 Small questions are exact; large ones come from a saddle-point expansion, an
 inclusion-exclusion bound or a recurrence, each with its relative error bound.
@@ -17,6 +18,8 @@ from __future__ import annotations
 
 from fractions import Fraction
 
+from urnbound.core.errors import DomainError
+from urnbound.core.limits import MAX_MEAN_LOAD
 from urnbound.core.occupancy import occupancy_risk
 from urnbound.core.occupancy_figures import expected_at_least, expected_empty, load_profile
 from urnbound.core.occupancy_inverse import smallest_load
@@ -43,6 +46,10 @@ PREMISE = (
 
 def _answer(inputs: Inputs, context: Context) -> Answer:
     buckets, count, chosen = inputs["buckets"], inputs["count"], inputs["load"]
+    if count > MAX_MEAN_LOAD * buckets:
+        raise DomainError(f"count must be at most {MAX_MEAN_LOAD:,} times buckets (a mean load "
+                          f"of at most {MAX_MEAN_LOAD:,} keeps every answer's cost small; got "
+                          f"{count} items on {buckets} buckets)", field="count")
     lower: Magnitude | None = None
     if isinstance(chosen, Fraction):
         found = smallest_load(buckets, count, chosen)
