@@ -23,7 +23,8 @@ Choice of method, by estimated cost and by regime, never by a fixed n:
    plus the truncation estimate) is at most ``TARGET_BOUND``; then the recurrences up to
    ``occupancy_series.MAX_STEPS`` steps.
 7. Otherwise exact if its cost is at most ``EXACT_MAX_COST`` (measured under 50 ms),
-   else whichever approximate answer has the smaller bound, reported as it is.
+   else whichever approximate answer has the smaller bound (inclusion-exclusion among
+   them), reported as it is.
 """
 
 from __future__ import annotations
@@ -69,8 +70,12 @@ START_BITS = 96
 PRECISION_TRIES = 3
 
 
-def occupancy_risk(buckets: int, count: int, rule: Rule) -> OccupancyRisk:
+def occupancy_risk(buckets: int, count: int, rule: Rule, *,
+                   target: float = TARGET_BOUND) -> OccupancyRisk:
     """P(every bucket obeys ``rule``) after ``count`` items on ``buckets`` buckets.
+
+    :param target: the relative bound an approximate answer must reach to be taken before
+        the exact fallback (a search that only compares with a budget asks for less).
 
     :raises DomainError: for fewer than one bucket or a negative count.
 
@@ -101,12 +106,12 @@ def occupancy_risk(buckets: int, count: int, rule: Rule) -> OccupancyRisk:
     for method in methods:
         found = _attempt(method, buckets, count, rule)
         if found is not None:
-            if found.relative_error_bound <= TARGET_BOUND:
+            if found.relative_error_bound <= target:
                 return found
             candidates.append(found)
     if cost <= EXACT_MAX_COST:
         return _exact_answer(buckets, count, rule)
-    if not candidates and not rare:
+    if not rare:  # the interval may still be the best answer there is
         found = _attempt(_tail_answer, buckets, count, rule)
         candidates += [] if found is None else [found]
     if not candidates:
@@ -153,7 +158,8 @@ def _breaking_is_rare(buckets: int, count: int, rule: Rule) -> bool:
     else:
         log_choose = (math.lgamma(count + 1) - math.lgamma(j + 1)
                       - math.lgamma(count - j + 1))
-    log_term = log_choose - j * log_size - (count - j) / buckets
+    keep = math.log1p(-1 / buckets) if buckets < 2**50 else -1 / buckets
+    log_term = log_choose - j * log_size + (count - j) * keep
     tail = -math.log1p(-ratio)  # the geometric bound on the rest of the tail
     return math.log(buckets) + log_term + tail < -RARE_BITS * math.log(2.0)
 

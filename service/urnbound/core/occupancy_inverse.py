@@ -36,6 +36,9 @@ from urnbound.core.search import RiskInterval, certified_boundary
 MAX_DOUBLINGS = 200
 #: Newton steps that polish the first guess of the fewest draws (each one engine answer).
 NEWTON_STEPS = 2
+#: The bound an engine answer needs inside a search: a comparison with a budget is settled
+#: by any interval that does not straddle it, and an undecided one falls back to exact.
+SEARCH_BOUND = 2.0**-20
 
 
 @dataclass(frozen=True, slots=True)
@@ -144,7 +147,8 @@ class _EngineFamily:
         if bits > 64:
             return None  # the engine's answer does not sharpen with more bits
         buckets, count = self._point(index)
-        return _interval(occupancy_risk(buckets, count, self._rule(index)))
+        return _interval(occupancy_risk(buckets, count, self._rule(index),
+                                        target=SEARCH_BOUND))
 
     def exact_first(self, index: int) -> bool:
         buckets, count = self._point(index)
@@ -201,7 +205,8 @@ class LoadFamily(_EngineFamily):
         if self.known(guess) is not None:
             return guess
         # One engine answer corrects the heuristic by the ratio it misses by at the guess.
-        answer = occupancy_risk(self.buckets, self.count, Rule(BELOW, guess))
+        answer = occupancy_risk(self.buckets, self.count, Rule(BELOW, guess),
+                                target=SEARCH_BOUND)
         actual = _log_hazard(answer)
         if actual is None:
             return guess
@@ -303,7 +308,8 @@ class CoverFamily(_EngineFamily):
         for _ in range(NEWTON_STEPS):
             if not self.lowest < count < self.top:
                 return count
-            log10 = occupancy_risk(self.buckets, count, Rule(AT_LEAST, self.level)).holds.log10
+            log10 = occupancy_risk(self.buckets, count, Rule(AT_LEAST, self.level),
+                                   target=SEARCH_BOUND).holds.log10
             if log10 is None:
                 return count
             mean = count / self.buckets
