@@ -98,7 +98,10 @@ def occupancy_risk(buckets: int, count: int, rule: Rule, *,
     candidates: list[OccupancyRisk] = []
     steps = _recurrence_steps(buckets, count, rule)
     cheap = steps is not None and steps <= CHEAP_STEPS
-    rare = _breaking_is_rare(buckets, count, rule)
+    try:
+        rare = _breaking_is_rare(buckets, count, rule)
+    except (OverflowError, ValueError):  # only the order of the methods depends on it
+        rare = True
     methods = [*([_tail_answer] if rare else []), *([_recurrence_answer] if cheap else []),
                _saddle_answer]
     if steps is not None and not cheap and steps <= series.MAX_STEPS:
@@ -158,8 +161,11 @@ def _breaking_is_rare(buckets: int, count: int, rule: Rule) -> bool:
     else:
         log_choose = (math.lgamma(count + 1) - math.lgamma(j + 1)
                       - math.lgamma(count - j + 1))
-    keep = math.log1p(-1 / buckets) if buckets < 2**50 else -1 / buckets
-    log_term = log_choose - j * log_size + (count - j) * keep
+    if buckets < 2**50:  # then a count that is not trivially answered fits a float
+        rest = (count - j) * math.log1p(-1 / buckets)
+    else:
+        rest = -((count - j) / buckets)  # integer division to a float: no overflow
+    log_term = log_choose - j * log_size + rest
     tail = -math.log1p(-ratio)  # the geometric bound on the rest of the tail
     return math.log(buckets) + log_term + tail < -RARE_BITS * math.log(2.0)
 
