@@ -34,6 +34,9 @@ MAX_SERIES_TERMS = 1_500
 #: A ratio series is used when its first ratio is below this (it then needs at most some
 #: prec * ln 2 / -ln(0.9), about 7 prec, terms; usually far fewer, as the ratios fall).
 SERIES_RATIO = 0.9
+#: The same for Poisson tails, whose incomplete gamma functions are fast (about 0.1 ms):
+#: the series is used only where it needs few terms.
+POISSON_SERIES_RATIO = 0.5
 #: Counts up to this are turned into falling products; above it, log-gamma is used.
 MAX_PRODUCT_TERMS = 256
 
@@ -193,7 +196,7 @@ def poisson_at_least(k: int, mean: arb) -> arb:
     """
     if k <= 0:
         return arb(1)
-    if mean.upper() < SERIES_RATIO * (k + 1):
+    if mean.upper() < POISSON_SERIES_RATIO * (k + 1):
         found = _ratio_sum(poisson_pmf(k, mean), lambda i: mean / (k + i), 10**9)
         if found is not None:
             return found
@@ -216,7 +219,7 @@ def poisson_below(a: int, mean: arb) -> arb:
     """
     if a <= 0:
         return arb(0)
-    if (a - 1) < SERIES_RATIO * mean.lower():
+    if (a - 1) < POISSON_SERIES_RATIO * mean.lower():
         found = _ratio_sum(poisson_pmf(a - 1, mean), lambda i: (a - i) / mean, a - 1)
         if found is not None:
             return found
