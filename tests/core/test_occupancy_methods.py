@@ -47,7 +47,7 @@ CANDIDATES = (
     + [(40, n, Rule(AT_LEAST, 3)) for n in (125, 200, 300, 500)]
     + [(100, n, Rule(AT_LEAST, 3)) for n in (310, 400)]
 )
-GRID = [point for point in CANDIDATES if exact_cost(*point) <= 40_000_000]
+GRID = [point for point in CANDIDATES if exact_cost(*point) <= 150_000_000]
 
 
 @pytest.mark.parametrize(("buckets", "count", "rule"), GRID)
