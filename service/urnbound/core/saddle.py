@@ -162,13 +162,21 @@ def _extra_bits(y: arb, rule: Rule) -> int:
 
 
 def _polish(log_y: arb, mean: arb, rule: Rule, prec: int) -> arb:
-    """Newton steps at ``prec`` bits from a 64-bit saddle point (two or three suffice)."""
+    """Newton steps at ``prec`` bits from a saddle point good to 2**-40 in ln y.
+
+    Newton converges quadratically, so each step doubles the bits: the steps stop once
+    the last one has moved ln y by less than 2**(16 - prec), or once they carry at least
+    ``prec`` bits by that doubling. What is left is accounted for by ``_off_saddle``,
+    from the ball of N E X_y - n at the point returned.
+    """
+    good = 40
     with precision(prec):
         for _ in range(MAX_NEWTON_STEPS):
             gap, variance = _gap(log_y.exp(), mean, rule)
             move = gap / variance
             log_y = arb((log_y - move).mid())
-            if abs(float(move.mid())) < 2.0 ** (16 - prec):
+            good *= 2
+            if abs(float(move.mid())) < 2.0 ** (16 - prec) or good >= prec:
                 return arb(log_y.exp().mid())  # an exact point: no radius to amplify
     raise NoConvergence("the saddle point did not settle at full precision")
 
