@@ -8,7 +8,8 @@ References, computed here with mpmath at 600 bits and sharing no code with the e
 * few items, k-fold: for n < 2k no two values can each be used k times, so
   P(some value used >= k times) = N P(Binomial(n, 1/N) >= k) exactly (sympy rationals);
 * coverage: inclusion-exclusion, P(every value used) = sum_j (-1)^j C(N, j) (1 - j/N)^n,
-  summed until its alternating terms fall below 2^-500 of the sum.
+  summed until its alternating terms fall below 2^-500 of the sum; and for two uses the
+  same over the values used at most once (``_used_twice``).
 
 Each check asks for 1e-9 relative accuracy on both the probability and its complement.
 """
@@ -139,3 +140,39 @@ def test_coverage_tails_on_both_sides_reach_below_1e_20() -> None:
     assert low_answer.holds.log10 < -20 and high_answer.fails.log10 < -20
     _check(low_answer, _covered(buckets, low))
     _check(high_answer, _covered(buckets, high))
+
+
+def _used_twice(buckets: int, count: int) -> mpmath.mpf:
+    """P(every value used at least twice) by inclusion-exclusion over values used at most once.
+
+    For a set of t values each used 0 or 1 times, j of them once:
+    C(t, j) n (n-1) ... (n-j+1) N^-j (1 - t/N)^(n-j). Summed over t until the alternating
+    outer terms fall below 2^-500 of the sum.
+    """
+    ctx = WORK
+    total = ctx.mpf(0)
+    choose_outer = ctx.mpf(1)  # C(N, t)
+    for t in range(buckets + 1):
+        inner = ctx.mpf(0)
+        choose_inner = ctx.mpf(1)  # C(t, j)
+        falling = ctx.mpf(1)  # n (n-1) ... (n-j+1) / N^j
+        for j in range(t + 1):
+            inner += (choose_inner * falling
+                      * ctx.exp((count - j) * ctx.log1p(-ctx.mpf(t) / buckets)))
+            choose_inner = choose_inner * (t - j) / (j + 1)
+            falling = falling * (count - j) / buckets
+        term = choose_outer * inner
+        total += term if t % 2 == 0 else -term
+        if t > 3 and term < ctx.mpf(2) ** -500 * abs(total):
+            return total
+        choose_outer = choose_outer * (buckets - t) / (t + 1)
+    return total
+
+
+@pytest.mark.parametrize("shift", [-1.0, 1.0, 4.0, 20.0])
+def test_every_value_used_twice_among_a_million(shift: float) -> None:
+    # N (ln N + ln ln N + c) draws put the chance in its middle for large N (from memory,
+    # context only); the check is against the inclusion-exclusion above.
+    buckets = 10**6
+    count = round(buckets * (math.log(buckets) + math.log(math.log(buckets)) + shift))
+    _check(occupancy_risk(buckets, count, Rule(AT_LEAST, 2)), _used_twice(buckets, count))
