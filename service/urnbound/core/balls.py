@@ -3,10 +3,10 @@
 The occupancy engine computes with python-flint's ``arb`` balls: each value is a midpoint
 and a radius that encloses the true value, so every rounding error is accounted for by
 the library. Precision is flint's ``ctx.prec``, which is process-wide: :func:`precision`
-sets it for the duration of a block and restores it. Under threads another block may
-change it meanwhile; that can only change how tight a ball is, never whether it encloses
-the true value, and every caller reads the accuracy it needs off the ball (and works
-again at more bits when it is short), so a race costs time, never correctness.
+sets it for the duration of a block, restores it, and holds a re-entrant lock meanwhile,
+so that threads (gunicorn's gthread workers) never compute at each other's precision.
+Every engine computation runs inside such a block. Even a wrong precision could only
+change how tight a ball is, never whether it encloses the true value.
 
 Tails of the binomial and Poisson laws are summed from their small end by ratio series:
 the ratios of successive terms fall, so once a ratio r < 1 is reached the rest of the
@@ -18,6 +18,7 @@ used instead (also rigorous, slower near the bulk of the law).
 from __future__ import annotations
 
 import math
+import threading
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 
@@ -41,15 +42,26 @@ POISSON_SERIES_RATIO = 0.5
 MAX_PRODUCT_TERMS = 256
 
 
+#: flint's working precision is one setting for the whole process; this lock makes each
+#: outermost precision block exclusive, so a thread's block never sees another's setting
+#: (re-entrant: blocks nest). The service's gthread workers run answers in threads.
+_PRECISION_LOCK = threading.RLock()
+
+
 @contextmanager
 def precision(bits: int) -> Iterator[None]:
-    """Run a block at ``bits`` bits of flint precision, restoring the previous setting."""
-    previous = ctx.prec
-    ctx.prec = bits
-    try:
-        yield
-    finally:
-        ctx.prec = previous
+    """Run a block at ``bits`` bits of flint precision, restoring the previous setting.
+
+    The block holds a re-entrant lock, so threads take turns at flint (they would take
+    turns at the interpreter anyway: the work is CPU-bound).
+    """
+    with _PRECISION_LOCK:
+        previous = ctx.prec
+        ctx.prec = bits
+        try:
+            yield
+        finally:
+            ctx.prec = previous
 
 
 def to_real(x: arb) -> Real:
