@@ -75,3 +75,7 @@ MAX_MULTIPLICITY = 256
 MAX_MEAN_LOAD = 10**5
 #: Most counts of a loads or coverage curve (an occupancy chance costs up to some 10 ms).
 MAX_OCCUPANCY_POINTS = 100
+#: Largest exact cost (digits of N**n) of the collision risk inside /v1/reviews: a review
+#: gathers several certified figures, and at the service's exact limit its collision part
+#: alone cost up to 10 ms; past this the expansion answers with its bound (under 0.1 ms).
+REVIEW_EXACT_DIGIT_LIMIT = 5_000

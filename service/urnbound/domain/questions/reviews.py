@@ -21,6 +21,7 @@ from urnbound.core.exact import magnitude_of_fraction
 from urnbound.core.guess_lengths import shortest_unguessable_length
 from urnbound.core.guessing import distinct_hit, hit_at_most, independent_hit
 from urnbound.core.inverse import CountFamily, LengthFamily, longest_length
+from urnbound.core.limits import REVIEW_EXACT_DIGIT_LIMIT
 from urnbound.core.pairwise import collision_risk
 from urnbound.core.precision import log2_of_int
 from urnbound.core.search import certified_at_most, certified_boundary
@@ -185,7 +186,7 @@ def _collision_length(inputs: Inputs, symbols: int, longest: int, limit: int) ->
 
 
 def _answer(inputs: Inputs, context: Context) -> Answer:
-    limit = context.exact_digit_limit
+    limit = min(context.exact_digit_limit, REVIEW_EXACT_DIGIT_LIMIT)
     collision, collision_bound = _collision(inputs, limit)
     attack = _attack(inputs)
     guessing, guessing_bound = _guessing(inputs, attack, limit)
