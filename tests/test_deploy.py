@@ -69,7 +69,20 @@ def test_each_manifest_is_valid_against_the_kubernetes_schema(index: int) -> Non
 
 def test_the_manifests_hold_the_expected_kinds() -> None:
     kinds = sorted(doc["kind"] for doc in documents())
-    assert kinds == ["Deployment", "HorizontalPodAutoscaler", "PodDisruptionBudget", "Service"]
+    assert kinds == ["Deployment", "HorizontalPodAutoscaler", "NetworkPolicy",
+                     "PodDisruptionBudget", "Service"]
+
+
+def test_the_network_policy_lets_clients_reach_only_the_proxy() -> None:
+    # the Service targets the proxy port; gunicorn's port is open to the scraper only
+    policy = one("NetworkPolicy")["spec"]
+    assert policy["podSelector"] == one("Deployment")["spec"]["selector"]
+    open_to_all = [rule for rule in policy["ingress"] if "from" not in rule]
+    assert [port["port"] for rule in open_to_all for port in rule["ports"]] == ["http"]
+    scraped = [rule for rule in policy["ingress"] if "from" in rule]
+    assert [port["port"] for rule in scraped for port in rule["ports"]] == ["service"]
+    named = {port["name"] for c in containers().values() for port in c.get("ports", [])}
+    assert {"http", "service"} <= named
 
 
 def test_every_container_has_requests_limits_and_a_locked_down_context() -> None:
