@@ -8,7 +8,6 @@ checked before any number is built, and every refusal names the field and its ra
 
 from __future__ import annotations
 
-import re
 from fractions import Fraction
 
 from urnbound.core.curves import SPACINGS
@@ -30,9 +29,8 @@ from urnbound.domain.durations import duration_rule, parse_duration
 from urnbound.domain.errors import InvalidQuery
 from urnbound.domain.inputs import Inputs
 from urnbound.domain.parameters import NUMBER_PATTERN, Parameter
+from urnbound.domain.rates import parse_decimal_in
 
-_WHITESPACE = " \t\r\n\f\v"
-_DECIMAL = re.compile(r"\+?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]{1,4})?", re.ASCII)
 _DAYS_IN_YEARS = MAX_HORIZON_SECONDS // 86_400
 
 
@@ -54,38 +52,13 @@ def horizon_rule() -> str:
             f"({_DAYS_IN_YEARS // 365} years of 365 days)")
 
 
-def _decimal(text: str, field: str, rule: str) -> Fraction:
-    """An unsigned decimal number, exactly; the exponent has at most four digits."""
-
-    def refuse(reason: str) -> DomainError:
-        return DomainError(f"{field} must be {rule} (got {reason})", field=field)
-
-    if not isinstance(text, str):
-        raise refuse(f"a value of type {type(text).__name__}")
-    if len(text) > MAX_TEXT_CHARS:
-        raise refuse(f"more than {MAX_TEXT_CHARS} characters")
-    stripped = text.strip(_WHITESPACE)
-    if not stripped:
-        raise refuse("an empty value")
-    if stripped.startswith("-"):
-        raise refuse("a negative value")
-    if _DECIMAL.fullmatch(stripped) is None:
-        raise refuse("text that is not a decimal number")
-    return Fraction(stripped.lstrip("+"))
-
-
 def parse_issue_rate(text: str) -> Fraction:
     """Identifiers per ``per``, exactly, from 1e-9 to 1e30.
 
     >>> parse_issue_rate("2e6"), parse_issue_rate("0.5")
     (Fraction(2000000, 1), Fraction(1, 2))
     """
-    value = _decimal(text, "rate", rate_rule())
-    if value < MIN_RATE:
-        raise DomainError(f"rate must be {rate_rule()} (got a value below 1e-9)", field="rate")
-    if value > MAX_RATE:
-        raise DomainError(f"rate must be {rate_rule()} (got a value above 1e30)", field="rate")
-    return value
+    return parse_decimal_in(text, "rate", MIN_RATE, MAX_RATE, rate_rule())
 
 
 def parse_growth(text: str) -> Fraction:
@@ -94,13 +67,7 @@ def parse_growth(text: str) -> Fraction:
     >>> parse_growth("1.5")
     Fraction(3, 2)
     """
-    value = _decimal(text, "growth", growth_rule())
-    if value == 0:
-        raise DomainError(f"growth must be {growth_rule()} (got 0)", field="growth")
-    if value > MAX_GROWTH:
-        raise DomainError(f"growth must be {growth_rule()} (got a value above {MAX_GROWTH})",
-                          field="growth")
-    return value
+    return parse_decimal_in(text, "growth", 0, MAX_GROWTH, growth_rule(), low_open=True)
 
 
 def parse_per(text: str) -> Fraction:
