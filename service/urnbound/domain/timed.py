@@ -15,7 +15,7 @@ from fractions import Fraction
 from typing import Any
 
 from urnbound.core.exact import magnitude_of_fraction
-from urnbound.core.limits import MAX_BITS, MAX_BURST
+from urnbound.core.limits import MAX_BITS, MAX_BURST, MAX_TEXT_CHARS
 from urnbound.core.ticks import TickLoad, TickRisk, fewest_tick_bits, steady_loads, tick_risk
 from urnbound.domain.alternatives import chosen_group
 from urnbound.domain.durations import duration_rule, duration_text, parse_duration
@@ -33,7 +33,7 @@ RATE = Parameter(
     "Identifiers per second across all generators, with duration (for a time-ordered "
     "space, instead of count).",
     "1e6",
-    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": 200},
+    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": MAX_TEXT_CHARS},
 )
 DURATION = Parameter(
     "duration",
@@ -41,7 +41,7 @@ DURATION = Parameter(
     duration_rule(),
     "How long identifiers are made at rate, as an ISO 8601 duration.",
     "P365D",
-    {"type": "string", "maxLength": 200},
+    {"type": "string", "maxLength": MAX_TEXT_CHARS},
 )
 BURST = Parameter(
     "burst",
@@ -50,7 +50,7 @@ BURST = Parameter(
     "Peak over mean rate in the busiest burst_share of the ticks (with burst_share; the "
     "other ticks are slower, keeping the mean rate); default 1.",
     "10",
-    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": 200},
+    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": MAX_TEXT_CHARS},
 )
 BURST_SHARE = Parameter(
     "burst_share",
@@ -59,7 +59,7 @@ BURST_SHARE = Parameter(
     decimal_rule(0, 1, low_open=True),
     "The share of the ticks that run at burst times the mean rate (with burst).",
     "0.01",
-    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": 200},
+    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": MAX_TEXT_CHARS},
 )
 #: The load parameters, in documentation order.
 LOAD_PARAMETERS = (RATE, DURATION, BURST, BURST_SHARE)

@@ -19,7 +19,7 @@ from typing import Any
 
 from urnbound.core.curves import RiskCurve, occupancy_curve, risk_curve
 from urnbound.core.errors import DomainError
-from urnbound.core.limits import DEFAULT_POINTS, MAX_BUCKETS, MAX_OCCUPANCY_POINTS
+from urnbound.core.limits import DEFAULT_POINTS, MAX_BUCKETS, MAX_OCCUPANCY_POINTS, MAX_TEXT_CHARS
 from urnbound.core.occupancy_results import AT_LEAST as AT_LEAST_RULE
 from urnbound.core.occupancy_results import BELOW, Rule
 from urnbound.domain import charts
@@ -58,7 +58,7 @@ KIND = Parameter(
     "bucket holds at least load items, the space's values being the buckets) or coverage "
     "(some bucket used fewer than at_least times).",
     "loads",
-    {"type": "string", "enum": list(KINDS), "maxLength": 200},
+    {"type": "string", "enum": list(KINDS), "maxLength": MAX_TEXT_CHARS},
 )
 
 

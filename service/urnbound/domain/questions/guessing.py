@@ -27,7 +27,7 @@ from typing import Any
 
 from urnbound.core.exact import magnitude_of_fraction
 from urnbound.core.guessing import HitChance, distinct_hit, hit_at_most, independent_hit
-from urnbound.core.limits import MAX_BITS, MAX_COUNT, MIN_BITS
+from urnbound.core.limits import MAX_BIG_TEXT_CHARS, MAX_BITS, MAX_COUNT, MAX_TEXT_CHARS, MIN_BITS
 from urnbound.core.results import EXACT, Magnitude
 from urnbound.domain import numbers
 from urnbound.domain.alternatives import chosen_group
@@ -69,7 +69,7 @@ LIVE = Parameter(
     numbers.whole_rule(1, MAX_COUNT, scientific=True) + ", and at most the size of the space",
     "How many tokens are valid at once (any of them is a hit).",
     "1e5",
-    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": 2_600},
+    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": MAX_BIG_TEXT_CHARS},
 )
 GUESSES = Parameter(
     "guesses",
@@ -77,7 +77,7 @@ GUESSES = Parameter(
     numbers.whole_rule(0, MAX_COUNT, scientific=True),
     "How many guesses the attacker makes (or give guess_rate and window).",
     "1e9",
-    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": 2_600},
+    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": MAX_BIG_TEXT_CHARS},
 )
 GUESS_RATE = Parameter(
     "guess_rate",
@@ -85,7 +85,7 @@ GUESS_RATE = Parameter(
     rate_rule(),
     "Guesses per second, with window (instead of guesses).",
     "1e4",
-    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": 200},
+    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": MAX_TEXT_CHARS},
 )
 WINDOW = Parameter(
     "window",
@@ -93,7 +93,7 @@ WINDOW = Parameter(
     duration_rule(),
     "How long the attacker guesses at guess_rate, as an ISO 8601 duration.",
     "P365D",
-    {"type": "string", "maxLength": 200},
+    {"type": "string", "maxLength": MAX_TEXT_CHARS},
 )
 MIN_ENTROPY_BITS = Parameter(
     "min_entropy_bits",
@@ -109,7 +109,7 @@ MAX_SUCCESS = Parameter(
     numbers.risk_rule(),
     "The largest acceptable chance that the attacker hits a live token; compared exactly.",
     "1e-9",
-    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": 200},
+    {"type": "string", "pattern": NUMBER_PATTERN, "maxLength": MAX_TEXT_CHARS},
 )
 
 _ATTEMPTS = (("guesses",), ("guess_rate", "window"))

@@ -26,7 +26,7 @@ from typing import Any
 from urnbound.core.errors import DomainError
 from urnbound.core.exact import magnitude_of_fraction
 from urnbound.core.inverse import fewest_bits
-from urnbound.core.limits import MAX_BITS, MIN_BITS
+from urnbound.core.limits import MAX_BITS, MAX_TEXT_CHARS, MIN_BITS
 from urnbound.core.pairwise import collision_risk
 from urnbound.core.prefixes import ambiguity, fewest_unambiguous_bits, truncation_strength
 from urnbound.core.results import EXACT
@@ -96,7 +96,7 @@ ENCODING = Parameter(
     f"How the digest is written: base16 4 bits a character, base32 5, base64url 6 (RFC "
     f"4648); default {DEFAULT_ENCODING}.",
     "base16",
-    {"type": "string", "enum": list(ENCODINGS), "maxLength": 200},
+    {"type": "string", "enum": list(ENCODINGS), "maxLength": MAX_TEXT_CHARS},
 )
 
 _PREFIX = (("prefix_bits",), ("prefix_chars",))
