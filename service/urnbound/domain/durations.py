@@ -26,11 +26,10 @@ from urnbound.core.limits import (
     MAX_DURATION_FRACTION_DIGITS,
     MAX_DURATION_NUMBER_DIGITS,
     MAX_DURATION_SECONDS,
-    MAX_TEXT_CHARS,
     MIN_DURATION_SECONDS,
 )
+from urnbound.domain.numbers import stripped_text
 
-_WHITESPACE = " \t\r\n\f\v"
 #: A reason -> the error that states the rule and that reason.
 _Refusal = Callable[[str], DomainError]
 _WEEKS = re.compile(r"P(?P<weeks>[0-9]+)W", re.ASCII)
@@ -72,13 +71,7 @@ def parse_duration(text: str, *, field: str) -> Fraction:
     def refuse(reason: str) -> DomainError:
         return DomainError(f"{field} must be {duration_rule()} (got {reason})", field=field)
 
-    if not isinstance(text, str):
-        raise refuse(f"a value of type {type(text).__name__}")
-    if len(text) > MAX_TEXT_CHARS:
-        raise refuse(f"more than {MAX_TEXT_CHARS} characters")
-    stripped = text.strip(_WHITESPACE)
-    if not stripped:
-        raise refuse("an empty value")
+    stripped = stripped_text(text, refuse)
     if stripped[0] in "+-":
         raise refuse("a signed duration; durations are never negative")
     numbers = _components(stripped, refuse)

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import functools
 import re
+from collections.abc import Callable
 from dataclasses import dataclass
 from fractions import Fraction
 
@@ -65,6 +66,26 @@ def _split_decimal(text: str) -> _Decimal | None:
     stripped = digits.rstrip("0")
     exponent += len(digits) - len(stripped)
     return _Decimal(match["sign"] == "-", stripped, exponent if stripped else 0)
+
+
+def stripped_text(text: object, refuse: Callable[[str], DomainError],
+                  max_chars: int = MAX_TEXT_CHARS) -> str:
+    """A parameter's text without surrounding whitespace.
+
+    :raises DomainError: from ``refuse(reason)`` when it is not text, longer than
+        ``max_chars`` or empty, the reason saying which.
+
+    >>> stripped_text(" 1e9 ", lambda reason: DomainError(reason))
+    '1e9'
+    """
+    if not isinstance(text, str):
+        raise refuse(f"a value of type {type(text).__name__}")
+    if len(text) > max_chars:
+        raise refuse(f"more than {max_chars} characters")
+    stripped = text.strip(_WHITESPACE)
+    if not stripped:
+        raise refuse("an empty value")
+    return stripped
 
 
 @functools.lru_cache(maxsize=64)
@@ -233,13 +254,7 @@ def parse_risk(text: str, *, field: str = "max_risk") -> Fraction:
     Fraction(1, 4)
     """
     rule = _risk_rule(field)
-    if not isinstance(text, str):
-        raise rule.error(f"a value of type {type(text).__name__}")
-    if len(text) > MAX_TEXT_CHARS:
-        raise rule.error(f"more than {MAX_TEXT_CHARS} characters")
-    stripped = text.strip(_WHITESPACE)
-    if not stripped:
-        raise rule.error("an empty value")
+    stripped = stripped_text(text, rule.error)
     number = _split_decimal(stripped)
     if number is None:
         raise rule.error("text that is not a decimal number")

@@ -11,9 +11,9 @@ import re
 from fractions import Fraction
 
 from urnbound.core.errors import DomainError
-from urnbound.core.limits import MAX_RATE, MAX_TEXT_CHARS, MIN_RATE
+from urnbound.core.limits import MAX_RATE, MIN_RATE
+from urnbound.domain.numbers import stripped_text
 
-_WHITESPACE = " \t\r\n\f\v"
 _RATE = re.compile(r"\+?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE](?P<exp>[+-]?[0-9]{1,4}))?",
                    re.ASCII)
 
@@ -69,13 +69,7 @@ def parse_decimal_in(text: str, field: str, low: Fraction | int, high: Fraction 
     def refuse(reason: str) -> DomainError:
         return DomainError(f"{field} must be {rule} (got {reason})", field=field)
 
-    if not isinstance(text, str):
-        raise refuse(f"a value of type {type(text).__name__}")
-    if len(text) > MAX_TEXT_CHARS:
-        raise refuse(f"more than {MAX_TEXT_CHARS} characters")
-    stripped = text.strip(_WHITESPACE)
-    if not stripped:
-        raise refuse("an empty value")
+    stripped = stripped_text(text, refuse)
     if stripped.startswith("-"):
         raise refuse("a negative value")
     if _RATE.fullmatch(stripped) is None:
