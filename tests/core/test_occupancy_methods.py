@@ -51,7 +51,8 @@ GRID = [point for point in CANDIDATES if exact_cost(*point) <= 150_000_000]
 
 
 @pytest.mark.parametrize(("buckets", "count", "rule"), GRID)
-@pytest.mark.parametrize("method", ["_tail_answer", "_saddle_answer", "_recurrence_answer"])
+@pytest.mark.parametrize("method", ["_tail_answer", "_second_order_answer", "_saddle_answer",
+                                    "_recurrence_answer"])
 def test_reported_bound_is_never_exceeded(buckets: int, count: int, rule: Rule,
                                           method: str) -> None:
     if method == "_recurrence_answer" and occupancy._recurrence_steps(buckets, count,

@@ -10,12 +10,14 @@ Choice of method, by estimated cost and by regime, never by a fixed n:
 2. Below 2 is the pairwise question: :func:`urnbound.core.pairwise.collision_risk`.
 3. Exact (``occupancy_exact``) when its estimated cost is at most ``EXACT_FIRST_COST``
    bit-operations (a few milliseconds): both texts correctly rounded, bound 0.
-4. Inclusion-exclusion when the chance that some bucket breaks the rule is small: with
-   E_i = "bucket i breaks it", p = P(E_1) (an exact binomial tail) and S1 = N p,
-   Bonferroni's inequalities give S1 - S2 <= P(some E_i) <= S1, and the counts of
-   different buckets are negatively associated, so P(E_1 and E_2) <= p**2 and
-   S2 <= S1**2 (N - 1) / (2 N). The answer is the interval [S1 - S2max, S1]: a proven
-   relative bound below S1 / 2. Taken when that is at most ``TARGET_BOUND``.
+4. Inclusion-exclusion when the chance that some bucket breaks the rule is small
+   (``occupancy_tails``): Bonferroni's inequalities bracket it from exact tails. First
+   order, [S1 - C(N, 2) p1**2, S1] with S1 = N p1 from one binomial tail: a proven
+   relative bound below S1 / 2. Second order, [S1 - S2, S1 - S2 + C(N, 3) p1 p2] with
+   S2 = C(N, 2) p2 from the exact joint tail of two buckets: a bound near S1**2 / 6, for
+   a sum of some tens of terms. A float forecast of S1 and of the sum's length
+   (:func:`occupancy_tails.tail_plan`) puts the cheaper bracket forecast to reach the
+   target first; either is taken when its bound is at most ``TARGET_BOUND``.
 5. Near either end of the range (few items; or few items short of or beyond a full
    filling), the positive recurrences of ``occupancy_series`` when they take at most
    ``CHEAP_STEPS`` steps: proven by ball arithmetic.
@@ -23,8 +25,8 @@ Choice of method, by estimated cost and by regime, never by a fixed n:
    plus the truncation estimate) is at most ``TARGET_BOUND``; then the recurrences up to
    ``occupancy_series.MAX_STEPS`` steps.
 7. Otherwise exact if its cost is at most ``EXACT_MAX_COST`` (measured under 50 ms),
-   else whichever approximate answer has the smaller bound (inclusion-exclusion among
-   them), reported as it is.
+   else whichever approximate answer has the smaller bound (a tail bracket among them),
+   reported as it is.
 """
 
 from __future__ import annotations
@@ -37,6 +39,7 @@ from flint import arb
 
 from urnbound.core import balls, reporting
 from urnbound.core import occupancy_series as series
+from urnbound.core import occupancy_tails as tails
 from urnbound.core.balls import precision
 from urnbound.core.errors import DomainError, NoConvergence
 from urnbound.core.exact import magnitude_of_fraction
@@ -47,6 +50,7 @@ from urnbound.core.occupancy_results import (
     INCLUSION_EXCLUSION,
     RECURRENCE,
     SADDLE_POINT,
+    SECOND_ORDER_INCLUSION_EXCLUSION,
     OccupancyRisk,
     Rule,
 )
@@ -98,12 +102,8 @@ def occupancy_risk(buckets: int, count: int, rule: Rule, *,
     candidates: list[OccupancyRisk] = []
     steps = _recurrence_steps(buckets, count, rule)
     cheap = steps is not None and steps <= CHEAP_STEPS
-    try:
-        rare = _breaking_is_rare(buckets, count, rule)
-    except (OverflowError, ValueError):  # only the order of the methods depends on it
-        rare = True
-    methods = [*([_tail_answer] if rare else []), *([_recurrence_answer] if cheap else []),
-               _saddle_answer]
+    first, last = _tail_methods(buckets, count, rule, target)
+    methods = [*first, *([_recurrence_answer] if cheap else []), _saddle_answer]
     if steps is not None and not cheap and steps <= series.MAX_STEPS:
         methods.append(_recurrence_answer)
     for method in methods:
@@ -114,8 +114,8 @@ def occupancy_risk(buckets: int, count: int, rule: Rule, *,
             candidates.append(found)
     if cost <= EXACT_MAX_COST:
         return _exact_answer(buckets, count, rule)
-    if not rare:  # the interval may still be the best answer there is
-        found = _attempt(_tail_answer, buckets, count, rule)
+    for method in last:  # a bracket may still be the best answer there is
+        found = _attempt(method, buckets, count, rule)
         candidates += [] if found is None else [found]
     if not candidates:
         raise NoConvergence("no method reaches this question within its cost limit")
@@ -135,39 +135,39 @@ def _attempt(method: Callable[[int, int, Rule], OccupancyRisk | None], buckets: 
         return None
 
 
-#: The inclusion-exclusion bound is below S1 / 2: it is tried first only when a float
-#: estimate puts S1 below 2**-RARE_BITS (it needs S1 <= 2**-39 to reach TARGET_BOUND).
-RARE_BITS = 30
+#: A tail bracket is tried first when its forecast bound is within this factor of the
+#: target: the forecast errs high (its S1 has a geometric bound on the tail), and only
+#: the float arithmetic behind it could make it err low.
+TAIL_MARGIN = 16.0
+#: The second-order bracket is tried first only when its sum is forecast at most this
+#: many terms (a few microseconds each: about 1 ms with the tails around it).
+CHEAP_PAIR_TERMS = 300
+#: As a last resort (nothing else reached the target) it may take this many.
+MOST_PAIR_TERMS = 800
+
+TailMethod = Callable[[int, int, Rule], OccupancyRisk | None]
 
 
-def _breaking_is_rare(buckets: int, count: int, rule: Rule) -> bool:
-    """A float estimate of S1 = N P(bucket 1 breaks the rule) is below 2**-RARE_BITS.
+def _tail_methods(buckets: int, count: int, rule: Rule,
+                  target: float) -> tuple[list[TailMethod], list[TailMethod]]:
+    """The tail brackets to try before the others, and those kept for the last resort.
 
-    Only the order of the methods depends on it: the estimate's error changes which method
-    is tried first, never a figure. ln of the binomial term next to the edge, plus a
-    geometric tail where the terms fall fast; near the bulk, "not rare".
+    The first-order bracket (one tail) when forecast to reach ``target``, followed by the
+    second-order one; else the second-order one when it is forecast to reach it and its
+    sum is cheap. Only the order of the methods depends on the forecast, never a figure.
     """
-    if rule.kind == BELOW:
-        j = rule.level
-        ratio = (count - j) / ((j + 1) * (buckets - 1)) if buckets > 1 else math.inf
-    else:
-        j = rule.level - 1
-        ratio = j * (buckets - 1) / (count - j + 1) if count > j else 0.0
-    if ratio >= balls.SERIES_RATIO or j > count or buckets == 1:
-        return False
-    log_size = math.log(buckets)
-    if j <= balls.MAX_PRODUCT_TERMS:
-        log_choose = sum(math.log(count - i) for i in range(j)) - math.lgamma(j + 1)
-    else:
-        log_choose = (math.lgamma(count + 1) - math.lgamma(j + 1)
-                      - math.lgamma(count - j + 1))
-    if buckets < 2**50:  # then a count that is not trivially answered fits a float
-        rest = (count - j) * math.log1p(-1 / buckets)
-    else:
-        rest = -((count - j) / buckets)  # integer division to a float: no overflow
-    log_term = log_choose - j * log_size + rest
-    tail = -math.log1p(-ratio)  # the geometric bound on the rest of the tail
-    return math.log(buckets) + log_term + tail < -RARE_BITS * math.log(2.0)
+    try:
+        plan = tails.tail_plan(buckets, count, rule)
+    except (OverflowError, ValueError):  # a count beyond floats: the one tail first
+        return [_tail_answer], [_second_order_answer]
+    if plan is None:  # near the bulk: breaking is not rare
+        return [], [_tail_answer]
+    within = target * TAIL_MARGIN
+    if plan.first_order_bound <= within:
+        return [_tail_answer, _second_order_answer], []
+    if plan.second_order_bound <= within and plan.pair_terms <= CHEAP_PAIR_TERMS:
+        return [_second_order_answer], []
+    return [], [_second_order_answer if plan.pair_terms <= MOST_PAIR_TERMS else _tail_answer]
 
 
 # --- exact and pairwise -----------------------------------------------------------------------
@@ -205,29 +205,29 @@ def _pairwise_answer(buckets: int, count: int, rule: Rule) -> OccupancyRisk:
 # --- inclusion-exclusion ----------------------------------------------------------------------
 
 
-def breaking_chance(buckets: int, count: int, rule: Rule) -> arb:
-    """p = P(bucket 1 breaks the rule): a binomial tail with its relative accuracy.
-
-    Below k: P(Binomial(n, 1/N) >= k). At least a: P(Binomial(n, 1/N) < a).
-    """
-    p = arb(1) / buckets
-    if rule.kind == BELOW:
-        return balls.binomial_at_least(count, p, rule.level)
-    return balls.binomial_below(count, p, rule.level)
-
-
 def _tail_answer(buckets: int, count: int, rule: Rule) -> OccupancyRisk | None:
-    """The Bonferroni interval [S1 - S2max, S1] (module docstring, step 4)."""
+    """The first-order Bonferroni bracket [S1 - C(N, 2) p1**2, S1] (docstring, step 4)."""
+    return _bracket_answer(buckets, count, rule, tails.first_order_bracket,
+                           INCLUSION_EXCLUSION)
+
+
+def _second_order_answer(buckets: int, count: int, rule: Rule) -> OccupancyRisk | None:
+    """The second-order bracket [S1 - S2, S1 - S2 + C(N, 3) p1 p2] (docstring, step 4)."""
+    return _bracket_answer(buckets, count, rule, tails.second_order_bracket,
+                           SECOND_ORDER_INCLUSION_EXCLUSION)
+
+
+def _bracket_answer(buckets: int, count: int, rule: Rule,
+                    bracket: Callable[[int, int, Rule], arb | None],
+                    method: str) -> OccupancyRisk | None:
+    """The answer from a ball holding the bracket, at doubled precision until reportable."""
     bits = START_BITS
     for _ in range(PRECISION_TRIES):
         with precision(bits):
-            first = buckets * breaking_chance(buckets, count, rule)
-            if not first.upper() < 0.5:
+            fails = bracket(buckets, count, rule)
+            if fails is None:
                 return None
-            second = first**2 * (buckets - 1) / (2 * buckets)
-            fails = balls.between(first - arb(second.upper()), first)
-            answer = _answer_of_balls(buckets, count, rule, 1 - fails, fails,
-                                      INCLUSION_EXCLUSION, bits)
+            answer = _answer_of_balls(buckets, count, rule, 1 - fails, fails, method, bits)
         if answer is not None:
             return answer
         bits *= 2

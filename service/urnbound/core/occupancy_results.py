@@ -21,6 +21,7 @@ AT_LEAST = "at_least"
 #: Methods of the occupancy engine (``Method`` is an open set of names).
 SADDLE_POINT: Method = "saddle point"
 INCLUSION_EXCLUSION: Method = "inclusion-exclusion"
+SECOND_ORDER_INCLUSION_EXCLUSION: Method = "second-order inclusion-exclusion"
 RECURRENCE: Method = "recurrence"
 
 
