@@ -2,10 +2,11 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 from flask import Flask, Response
 
-from urnbound.api.access_log import StartStamp
-from urnbound.api.metrics import MetricsMount
+from urnbound.api.front import Front, flask_hook
 from urnbound.app import create_app
 
 #: Path of the empty JSON endpoint; it exists only in these benchmark apps.
@@ -39,28 +40,25 @@ def create_product_app() -> Flask:
 
 
 def create_product_app_without_metrics() -> Flask:
-    """:func:`create_product_app` without the request metrics: no hook, no /metrics mount.
+    """:func:`create_product_app` without the request metrics: no counting or timing of
+    requests, no /metrics path.
 
-    The answer-cache and answer-method counters that the question view updates stay; only the
-    per-request counting and timing of ``urnbound.api.metrics.init_metrics`` is taken out.
+    The answer-cache and answer-method counters that question replies update stay; only the
+    per-request counting and timing of the front's observer is taken out (the access log
+    stays).
     """
     app = create_product_app()
+    front = app.wsgi_app
+    if not isinstance(front, Front):
+        raise RuntimeError(f"unexpected WSGI app {type(front).__name__}; bench app out of date")
+    observer = replace(front.observer, metrics=None)
+    app.wsgi_app = replace(front, observer=observer, exposition=None)  # type: ignore[method-assign]
     hooks = app.after_request_funcs[None]
-    kept = [hook for hook in hooks if not _qualname(hook).startswith("init_metrics.")]
+    kept = [hook for hook in hooks if not _qualname(hook).startswith("flask_hook.")]
     if len(kept) != len(hooks) - 1:
-        raise RuntimeError("the metrics hook was not found; the bench app is out of date")
-    app.after_request_funcs[None] = kept
-    app.wsgi_app = without_mount(app.wsgi_app)  # type: ignore[method-assign,assignment]
+        raise RuntimeError("the front's Flask hook was not found; the bench app is out of date")
+    app.after_request_funcs[None] = [*kept, flask_hook(observer)]
     return app
-
-
-def without_mount(wsgi: object) -> object:
-    """The WSGI chain with its :class:`MetricsMount` taken out (under the access-log stamp)."""
-    if isinstance(wsgi, MetricsMount):
-        return wsgi.app
-    if isinstance(wsgi, StartStamp):
-        return StartStamp(without_mount(wsgi.app))  # type: ignore[arg-type]
-    raise RuntimeError(f"unexpected WSGI wrapper {type(wsgi).__name__}; bench app out of date")
 
 
 def _qualname(hook: object) -> str:

@@ -6,21 +6,14 @@ import json
 import logging
 import sys
 import time
-from collections.abc import Callable, Iterable
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
-
-from flask import Flask, Request, Response, request
 
 from urnbound.config import Settings
 
 #: Longest query string copied into a log line.
 MAX_LOGGED_QUERY = 512
-#: WSGI environ key holding ``time.perf_counter()`` at the moment the request reached the app.
-REQUEST_START_KEY = "urnbound.access_log.start"
-
-WsgiStartResponse = Callable[..., Any]
-WsgiApp = Callable[[dict[str, Any], WsgiStartResponse], Iterable[bytes]]
 
 
 @dataclass(slots=True)
@@ -66,64 +59,56 @@ def write_line(line: str) -> None:
         logging.getLogger("urnbound.access").exception("could not write the access log")
 
 
-def access_line(
-    current: Request, response: Response, seconds: float, clock: UtcClock | None = None
-) -> str:
-    """The JSON access-log line for the request ``current`` and its ``response``."""
-    environ = current.environ
+#: One encoder for every line (``json.dumps`` with separators builds a new one each call).
+_ENCODER = json.JSONEncoder(separators=(",", ":"))
+
+
+@dataclass(frozen=True, slots=True)
+class Served:
+    """What the access line says about one request and its response.
+
+    :ivar endpoint: the matched route, or ``None`` when no route matched.
+    :ivar length: the body's length in bytes (a HEAD response counts the body it omits).
+    """
+
+    method: str
+    path: str
+    endpoint: str | None
+    status: int
+    length: int | None
+
+
+def access_line(environ: Mapping[str, Any], served: Served, seconds: float,
+                clock: UtcClock | None = None) -> str:
+    """The JSON access-log line of the request ``environ`` served as ``served``."""
     query = environ.get("QUERY_STRING", "")
-    rule = current.url_rule
     entry = {
         "time": (clock or UtcClock()).now(),
         "event": "access",
         "remote": environ.get("REMOTE_ADDR"),
-        "method": current.method,
-        "path": current.path,
+        "method": served.method,
+        "path": served.path,
         "query": query[:MAX_LOGGED_QUERY],
-        "endpoint": rule.rule if rule is not None else None,
-        "status": response.status_code,
-        "bytes": response.calculate_content_length(),
+        "endpoint": served.endpoint,
+        "status": served.status,
+        "bytes": served.length,
         "duration_ms": round(seconds * 1000, 3),
         "user_agent": environ.get("HTTP_USER_AGENT") or None,
     }
-    return json.dumps(entry, separators=(",", ":"))
-
-
-@dataclass(frozen=True, slots=True)
-class StartStamp:
-    """WSGI middleware noting when each request reached the app."""
-
-    app: WsgiApp
-
-    def __call__(
-        self, environ: dict[str, Any], start_response: WsgiStartResponse
-    ) -> Iterable[bytes]:
-        environ[REQUEST_START_KEY] = time.perf_counter()
-        return self.app(environ, start_response)
+    return _ENCODER.encode(entry)
 
 
 @dataclass(frozen=True, slots=True)
 class AccessLog:
-    """Writes the access line of each response, timed from :class:`StartStamp`."""
+    """Writes one access line per request on standard output."""
 
     clock: UtcClock = field(default_factory=UtcClock)
 
-    def __call__(self, response: Response) -> Response:
-        current: Request = request._get_current_object()  # type: ignore[attr-defined]
-        now = time.perf_counter()
-        started = current.environ.get(REQUEST_START_KEY, now)
-        write_line(access_line(current, response, now - started, self.clock))
-        return response
+    def write(self, environ: Mapping[str, Any], served: Served, seconds: float) -> None:
+        """Write the line of one request, ``seconds`` after it reached the service."""
+        write_line(access_line(environ, served, seconds, self.clock))
 
 
 def logs_access(settings: Settings) -> bool:
     """Whether the settings ask for access lines (they are written at level INFO)."""
     return settings.access_log and logging.getLevelName(settings.log_level) <= logging.INFO
-
-
-def init_access_log(app: Flask, settings: Settings) -> None:
-    """Log every request handled by ``app`` when the settings ask for it."""
-    if not logs_access(settings):
-        return
-    app.after_request(AccessLog())
-    app.wsgi_app = StartStamp(app.wsgi_app)  # type: ignore[method-assign]

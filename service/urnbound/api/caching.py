@@ -1,7 +1,11 @@
-"""Answer caching: a bounded LRU keyed by the normalized question, strong ETags, 304s."""
+"""Answer caching: a bounded LRU keyed by the normalized question, strong ETags, 304s.
+
+No Flask here: the WSGI front (``front.py``) and the Flask view both reply through it.
+"""
 
 from __future__ import annotations
 
+import functools
 import hashlib
 import json
 import threading
@@ -10,7 +14,8 @@ from collections.abc import Callable, Hashable, Mapping
 from dataclasses import dataclass, field
 from typing import Any, Generic, Protocol, TypeVar
 
-from flask import Response, request
+from werkzeug.http import parse_etags
+from werkzeug.utils import get_content_type
 
 from urnbound.api.rendering import CachedAnswer
 
@@ -122,38 +127,59 @@ def variant(known: KnownQuestion[Q], media_type: str) -> KnownQuestion[Q]:
     return KnownQuestion(known.question, digest)
 
 
-def conditional_answer(
+@dataclass(frozen=True, slots=True)
+class Reply:
+    """An answer ready to send, with what the metrics need to know about it.
+
+    :ivar headers: in the order they are sent; a 304 carries only the validators.
+    :ivar cache_hit: whether the answer cache held the answer (``None`` for a 304, which
+        looks nothing up).
+    :ivar fresh: the answer when it was computed for this request.
+    """
+
+    status: int
+    headers: list[tuple[str, str]]
+    body: bytes
+    cache_hit: bool | None
+    fresh: CachedAnswer | None
+
+
+def conditional_reply(
     policy: CachePolicy,
     known: KnownQuestion[Any],
     compute: Callable[[], CachedAnswer],
-    on_lookup: Callable[[bool], None] | None = None,
-) -> tuple[Response, CachedAnswer | None]:
-    """Answer ``known`` with caching headers.
+    if_none_match: str | None,
+    vary: str | None = None,
+) -> Reply:
+    """The reply to ``known``, with caching headers.
 
     A matching ``If-None-Match`` (weak comparison, RFC 9110) gets a 304 without
     computing or looking up anything. Otherwise the LRU is asked first; ``compute``
     runs only on a miss.
 
-    :returns: the response and, when it was computed now, the fresh answer.
+    :param vary: the ``Vary`` header, when the representation depends on request headers.
     """
-    if request.if_none_match.contains_weak(known.etag):
-        return _with_cache_headers(Response(status=304), known.etag, policy.max_age), None
+    validators = [("ETag", f'"{known.etag}"'),
+                  ("Cache-Control", f"public, max-age={policy.max_age}")]
+    if vary is not None:
+        validators.append(("Vary", vary))
+    if if_none_match and parse_etags(if_none_match).contains_weak(known.etag):
+        return Reply(304, validators, b"", None, None)
     answer = policy.answers.get(known.digest)
-    if on_lookup is not None:
-        on_lookup(answer is not None)
+    hit = answer is not None
     fresh = None
     if answer is None:
         answer = fresh = compute()
         policy.answers.put(known.digest, answer)
-    response = Response(answer.body, status=200, mimetype=answer.media_type)
-    return _with_cache_headers(response, known.etag, policy.max_age), fresh
+    headers = [("Content-Type", content_type(answer.media_type)),
+               ("Content-Length", str(len(answer.body))), *validators]
+    return Reply(200, headers, answer.body, hit, fresh)
 
 
-def _with_cache_headers(response: Response, etag: str, max_age: int) -> Response:
-    # Plain header strings: the structured setters cost more than the whole cached answer.
-    response.headers["ETag"] = f'"{etag}"'
-    response.headers["Cache-Control"] = f"public, max-age={max_age}"
-    return response
+@functools.cache
+def content_type(media_type: str) -> str:
+    """The ``Content-Type`` Werkzeug would send for ``media_type`` (a charset for text)."""
+    return get_content_type(media_type, "utf-8")
 
 
 def _jsonable(value: object) -> object:

@@ -1,14 +1,15 @@
-"""Prometheus metrics of one app: its registry, its instruments and the /metrics mount."""
+"""Prometheus metrics of one app: its registry, its instruments and the /metrics exposition.
+
+The WSGI front (``front.py``) serves the exposition and observes every request.
+"""
 
 from __future__ import annotations
 
 import os
-import time
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
 from typing import Any
 
-from flask import Flask, Response, request
 from prometheus_client import (
     CONTENT_TYPE_LATEST,
     CollectorRegistry,
@@ -46,14 +47,30 @@ class Metrics:
     live: CollectorRegistry | None = None
 
     def count_cache_lookup(self, hit: bool) -> None:
-        """Count one lookup in the answer cache (children resolved once, not per request)."""
-        child = self._cache_children.get(hit)
-        if child is None:
-            child = self._cache_children[hit] = self.cache_events.labels(
-                result="hit" if hit else "miss")
-        child.inc()
+        """Count one lookup in the answer cache."""
+        self._child(self.cache_events, ("hit" if hit else "miss",)).inc()
 
-    _cache_children: dict[bool, Counter] = field(default_factory=dict, repr=False)
+    def count_answer(self, endpoint: str, method: str) -> None:
+        """Count one answer computed (a cache miss) by the method that computed it."""
+        self._child(self.answers, (endpoint, method)).inc()
+
+    def observe_request(self, endpoint: str, method: str, status: int, seconds: float) -> None:
+        """Count one response and time it, under its route, method and status."""
+        method = method_label(method)
+        self._child(self.latency, (endpoint,)).observe(seconds)
+        self._child(self.requests, (endpoint, method, str(status))).inc()
+
+    def _child(self, metric: Any, labels: tuple[str, ...]) -> Any:
+        # Labelled children are looked up once per label tuple, not per request: every part
+        # is bounded (routes, COUNTED_METHODS, the statuses the app sends, the methods of
+        # the core), and so is this map.
+        key = (metric, labels)
+        child = self._children.get(key)
+        if child is None:
+            child = self._children[key] = metric.labels(*labels)
+        return child
+
+    _children: dict[tuple[Any, tuple[str, ...]], Any] = field(default_factory=dict, repr=False)
 
     def exposition(self) -> bytes:
         """The current samples in the Prometheus text format."""
@@ -119,8 +136,6 @@ WsgiApp = Callable[[dict[str, Any], WsgiStartResponse], Iterable[bytes]]
 
 #: The one path that serves the exposition; ``/metrics/`` and longer paths are 404 problems.
 METRICS_PATH = "/metrics"
-#: WSGI environ key holding ``time.perf_counter()`` at the moment the request reached the app.
-REQUEST_START_KEY = "urnbound.metrics.start"
 #: Methods counted under their own name; any other method is counted as ``other``, so that
 #: clients cannot add label values (a series each) by inventing methods.
 COUNTED_METHODS = frozenset({"GET", "HEAD", "POST", "PUT", "PATCH", "DELETE", "OPTIONS"})
@@ -152,68 +167,6 @@ def metrics_wsgi_app(metrics: Metrics) -> WsgiApp:
     return application
 
 
-@dataclass(frozen=True, slots=True)
-class MetricsMount:
-    """WSGI middleware: exactly :data:`METRICS_PATH` to ``exposition``, the rest to ``app``.
-
-    Unlike a prefix mount, ``/metrics/`` and ``/metrics/anything`` reach the app, which
-    answers them with a 404 problem like any other unknown path (Prometheus scrapes the one
-    configured path). Requests for the app are stamped with their start time on the way in.
-    """
-
-    app: WsgiApp
-    exposition: WsgiApp
-
-    def __call__(
-        self, environ: dict[str, Any], start_response: WsgiStartResponse
-    ) -> Iterable[bytes]:
-        if environ.get("PATH_INFO") == METRICS_PATH:
-            return self.exposition(environ, start_response)
-        environ[REQUEST_START_KEY] = time.perf_counter()
-        return self.app(environ, start_response)
-
-
-def endpoint_label() -> str:
-    """The matched route (bounded cardinality), or ``unmatched`` for a 404."""
-    return request.url_rule.rule if request.url_rule is not None else "unmatched"
-
-
 def method_label(method: str) -> str:
     """The method as counted: its name when it is a common one, else ``other``."""
     return method if method in COUNTED_METHODS else "other"
-
-
-#: The labelled children one response updates: its latency histogram and its request counter.
-Children = tuple[Histogram, Counter]
-
-
-def init_metrics(app: Flask, metrics: Metrics) -> None:
-    """Count and time every request, and serve exactly ``/metrics`` from a WSGI middleware."""
-    # Labelled children are looked up once per (endpoint, method, status): every part is
-    # bounded (routes, COUNTED_METHODS, the statuses the app sends), and so is this map.
-    children: dict[tuple[str, str, int], Children] = {}
-
-    def children_of(endpoint: str, method: str, status: int) -> Children:
-        key = (endpoint, method, status)
-        found = children.get(key)
-        if found is None:
-            found = children[key] = (
-                metrics.latency.labels(endpoint=endpoint),
-                metrics.requests.labels(endpoint=endpoint, method=method, status=str(status)),
-            )
-        return found
-
-    @app.after_request
-    def observe(response: Response) -> Response:
-        now = time.perf_counter()
-        started = request.environ.get(REQUEST_START_KEY, now)
-        latency, count = children_of(
-            endpoint_label(), method_label(request.method), response.status_code
-        )
-        latency.observe(now - started)
-        count.inc()
-        return response
-
-    app.wsgi_app = MetricsMount(  # type: ignore[method-assign]
-        app.wsgi_app, metrics_wsgi_app(metrics)
-    )

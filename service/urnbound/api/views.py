@@ -1,21 +1,20 @@
 """The one view that answers every registered question through caching, metrics and problems.
 
 Each question's path is a route to :func:`answer_question`, whose endpoint name is the
-question's name; the view loads the query string through the question's parameters
-(``InvalidQuery`` becomes a problem document), then asks the caches, and computes and
-renders the answer only on a miss. A question that declares a chart answers with it
-(SVG) when the request's ``Accept`` prefers ``image/svg+xml`` to JSON; the chart has its
-own cache entry and ETag, and both representations say ``Vary: Accept``.
+question's name. The WSGI front (``front.py``) replies to GET and HEAD of these paths
+itself, through the same :func:`~urnbound.api.replies.reply_to`; a request reaches this
+view when that reply raised, and the view raises the same error for the app's handlers to
+turn into a problem document (``InvalidQuery`` becomes an invalid-query problem). Without
+the front, the view replies on its own, with the same headers and counts.
 """
 
 from __future__ import annotations
 
 from flask import Flask, Response, request
 
-from urnbound.api.caching import conditional_answer, known_question, variant
-from urnbound.api.rendering import JSON_MEDIA_TYPE, SVG_MEDIA_TYPE
+from urnbound.api.front import raise_reply_error
+from urnbound.api.replies import count_reply, reply_to
 from urnbound.api.state import service_state
-from urnbound.domain.inputs import Inputs
 from urnbound.domain.registry import Registry
 
 
@@ -28,33 +27,9 @@ def init_questions(app: Flask, registry: Registry) -> None:
 
 def answer_question() -> Response:
     """The answer to the question routed here, with caching headers."""
+    raise_reply_error(request.environ)
     state = service_state()
     question = state.registry[str(request.endpoint)]
-
-    def load() -> Inputs:
-        args = request.args
-        return question.load({name: args.getlist(name) for name in args})
-
-    known = known_question(state.caching, question.name, request.query_string, load)
-    metrics = state.metrics
-    render = state.renderer.render
-    if question.chart is not None and prefers_chart():
-        known, render = variant(known, SVG_MEDIA_TYPE), state.renderer.render_chart
-
-    response, fresh = conditional_answer(
-        state.caching,
-        known,
-        lambda: render(question, known.question, state.context),
-        metrics.count_cache_lookup,
-    )
-    if question.chart is not None:
-        response.headers["Vary"] = "Accept"
-    if fresh is not None and fresh.method is not None:
-        metrics.answers.labels(endpoint=question.name, method=fresh.method).inc()
-    return response
-
-
-def prefers_chart() -> bool:
-    """The request's Accept ranks an SVG chart above JSON (ties go to JSON)."""
-    best = request.accept_mimetypes.best_match((JSON_MEDIA_TYPE, SVG_MEDIA_TYPE))
-    return best == SVG_MEDIA_TYPE
+    reply = reply_to(state, question, request.environ)
+    count_reply(state.metrics, question, reply)
+    return Response(reply.body, status=reply.status, headers=reply.headers)

@@ -5,8 +5,8 @@ from __future__ import annotations
 from flask import Flask
 
 from urnbound.api import health, openapi, schemes
-from urnbound.api.access_log import init_access_log
-from urnbound.api.metrics import init_metrics
+from urnbound.api.access_log import AccessLog, logs_access
+from urnbound.api.front import init_front
 from urnbound.api.problems import init_problems
 from urnbound.api.state import EXTENSION_KEY, ServiceState
 from urnbound.api.views import init_questions
@@ -23,5 +23,4 @@ def wire(app: Flask, settings: Settings) -> None:
     for blueprint in BLUEPRINTS:
         app.register_blueprint(blueprint)
     init_problems(app)
-    init_metrics(app, state.metrics)
-    init_access_log(app, settings)
+    init_front(app, state, AccessLog() if logs_access(settings) else None)
