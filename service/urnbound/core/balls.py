@@ -10,9 +10,12 @@ change how tight a ball is, never whether it encloses the true value.
 
 Tails of the binomial and Poisson laws are summed from their small end by ratio series:
 the ratios of successive terms fall, so once a ratio r < 1 is reached the rest of the
-series is below the current term times r / (1 - r), which is added to the radius. When a
-series would need too many terms the incomplete gamma and beta functions of flint are
-used instead (also rigorous, slower near the bulk of the law).
+series is below the current term times r / (1 - r), which is added to the radius. Binomial
+tails whose first ratio lies between ``SERIES_RATIO`` and 1 (near the bulk of the law,
+thousands of terms) are summed in fixed point with integers, each term rounded down,
+the rounding and the rest of the series bounded and added (:func:`_fixed_ratio_sum`).
+When a series would need too many terms the incomplete gamma and beta functions of flint
+are used instead (also rigorous, slower near the bulk of the law).
 """
 
 from __future__ import annotations
@@ -40,6 +43,15 @@ SERIES_RATIO = 0.9
 POISSON_SERIES_RATIO = 0.5
 #: Counts up to this are turned into falling products; above it, log-gamma is used.
 MAX_PRODUCT_TERMS = 256
+#: Most terms of the fixed-point series of a binomial tail (about 0.12 us a term, so at
+#: most some 2.5 ms) before flint's incomplete beta function is used instead; that one
+#: takes 2 to 30 ms near the bulk of a law with a mean of 10**5 (bench_occupancy.py).
+MAX_FIXED_TERMS = 20_000
+#: Terms between two checks of the fixed-point series' remainder.
+FIXED_CHUNK = 256
+#: Fractional bits of the fixed-point series beyond the working precision: the rounding
+#: of at most MAX_FIXED_TERMS terms costs below M**2 / 2 < 2**28 units of the last bit.
+FIXED_GUARD_BITS = 48
 
 
 #: flint's working precision is one setting for the whole process; this lock makes each
@@ -199,6 +211,73 @@ def _ratio_sum(first: arb, ratio_at: Callable[[int], arb], terms: int) -> arb | 
     return None
 
 
+def _fixed_ratio_sum(top: int, base: int, rho: arb) -> arb | None:
+    """1 + sum over i >= 1 of prod_{j <= i} r_j, r_j = rho (top - j + 1) / (base + j).
+
+    For rho > 0, top >= 0, base >= 0 and r_1 < 1: the ratios fall with j (and vanish past
+    top), so every term is below the one before it. With the midpoint m of rho (an exact
+    binary fraction) the terms are formed in integers scaled by 2**F, each rounded down:
+    the computed term is below the true one by at most j units (the error of the term
+    before times r_j < 1, plus one), so the first M + 1 terms lose at most M (M + 1) / 2
+    units. Past M the rest is below the M-th term times R / (1 - R), R the next ratio.
+    The radius e of rho scales the i-th term by at most (1 +- e/m)**i, and i <= M; the
+    rest is bounded at m + e. ``None`` when more than MAX_FIXED_TERMS terms would be
+    needed, or rho's ball is too wide for a first ratio below 1.
+
+    >>> with precision(64):  # P(Binomial(3, 1/2) >= 2) = P(= 2) (1 + 1/3) = 3/8 * 4/3
+    ...     round(float(_fixed_ratio_sum(1, 2, arb(1)).mid()), 12)
+    1.333333333333
+    """
+    low = rho.lower()
+    if not low > 0:
+        return None
+    parts = rho.mid().man_exp()
+    mantissa: int = int(parts[0])
+    exponent: int = int(parts[1])
+    prec: int = ctx.prec
+    scale = prec + FIXED_GUARD_BITS
+    multiplier, shift = mantissa << max(exponent, 0), max(-exponent, 0)
+    term: int = 1 << scale
+    total: int = term
+    numerator, denominator = top * multiplier, (base + 1) << shift
+    step_down, step_up = multiplier, 1 << shift
+    if numerator >= denominator:
+        return None  # the first ratio at the midpoint is not below 1
+    done = 0
+    while done < MAX_FIXED_TERMS:
+        for _ in range(min(FIXED_CHUNK, MAX_FIXED_TERMS - done)):
+            if numerator <= 0:
+                break
+            term = term * numerator // denominator
+            total += term
+            numerator -= step_down
+            denominator += step_up
+            done += 1
+        if numerator <= 0:  # the series ended at j = top: nothing is left
+            return _fixed_ball(total, 0, done, scale, rho, None)
+        # rest <= (term + done) * R / (1 - R) units, R = numerator / denominator at m
+        if (term + done) * numerator << (prec + 16) <= total * (denominator - numerator):
+            return _fixed_ball(total, term + done, done, scale, rho,
+                               arb(top - done) / (base + done + 1))
+    return None
+
+
+def _fixed_ball(total: int, last: int, terms: int, scale: int, rho: arb,
+                next_factor: arb | None) -> arb | None:
+    """The ball of :func:`_fixed_ratio_sum` from its integer sum (docstring there)."""
+    unit = arb(2) ** -scale
+    spread = arb(rho.rad()) / arb(rho.mid())
+    grow = (1 + spread) ** terms
+    low = arb(total) * unit * (1 - spread) ** terms
+    high = arb(total + terms * (terms + 1) // 2) * unit * grow
+    if next_factor is not None:
+        ratio = arb(rho.upper()) * next_factor
+        if not ratio.upper() < 1:
+            return None
+        high += arb(last) * unit * grow * ratio / (1 - ratio)
+    return between(arb(low.lower()), arb(high.upper()))
+
+
 def poisson_at_least(k: int, mean: arb) -> arb:
     """P(Poisson(mean) >= k), with its full relative accuracy when it is small.
 
@@ -256,6 +335,10 @@ def binomial_at_least(trials: int, p: arb, k: int) -> arb:
                            lambda i: (trials - k - i + 1) * p / ((k + i) * q), trials - k)
         if found is not None:
             return found
+    elif first_ratio.upper() < 1:
+        series = _fixed_ratio_sum(trials - k, k, p / q)
+        if series is not None:
+            return binomial_pmf(trials, k, p) * series
     return p.beta_lower(k, trials - k + 1, regularized=1)
 
 
@@ -278,6 +361,10 @@ def binomial_below(trials: int, p: arb, a: int) -> arb:
                            lambda i: (top - i + 1) * q / ((trials - top + i) * p), top)
         if found is not None:
             return found
+    elif first_ratio.upper() < 1:
+        series = _fixed_ratio_sum(top, trials - top, q / p)
+        if series is not None:
+            return binomial_pmf(trials, top, p) * series
     # 1 - P(>= a) loses -log2 of the result, at most -log2 of the term P(= a - 1).
     chance = float(p.mid())
     log_first = (math.lgamma(trials + 1) - math.lgamma(a) - math.lgamma(trials - a + 2)
