@@ -134,3 +134,16 @@ def test_each_request_is_logged_once(capsys: pytest.CaptureFixture[str]) -> None
         ("GET", 200), ("HEAD", 200), ("GET", 422)]
     assert {line["endpoint"] for line in lines} == {"/v1/collisions"}
     assert lines[0]["bytes"] == lines[1]["bytes"] > 0  # HEAD counts the body it omits
+
+
+@pytest.mark.parametrize(("query", "field"), [
+    ("bits=64&count=\xff", "query"),  # a raw byte that is not UTF-8 (WSGI: latin-1 text)
+    ("bits=64&count=%ff", "count"),  # an escape that is not UTF-8: U+FFFD, not a number
+    ("bits=64&count=%E2%82%AC", "count"),  # the euro sign, well-formed but not a number
+])
+def test_query_bytes_that_are_not_a_number_are_422_problems(query: str, field: str) -> None:
+    _app, through_front, _flask_only = _apps()
+    response = through_front.get("/v1/collisions", environ_overrides={"QUERY_STRING": query})
+    assert response.status_code == 422
+    assert response.mimetype == "application/problem+json"
+    assert field in response.get_json()["errors"]

@@ -10,15 +10,16 @@ then counted in the metrics. No request context is needed.
 from __future__ import annotations
 
 from typing import Any
+from urllib.parse import parse_qsl
 
 from werkzeug.datastructures import MIMEAccept
 from werkzeug.http import parse_accept_header
-from werkzeug.wrappers import Request
 
 from urnbound.api.caching import Reply, conditional_reply, known_question, variant
 from urnbound.api.metrics import Metrics
 from urnbound.api.rendering import JSON_MEDIA_TYPE, SVG_MEDIA_TYPE
 from urnbound.api.state import ServiceState
+from urnbound.domain.errors import InvalidQuery
 from urnbound.domain.inputs import Inputs
 from urnbound.domain.question import Question
 
@@ -31,7 +32,7 @@ def reply_to(state: ServiceState, question: Question, environ: WsgiEnviron) -> R
     :raises InvalidQuery: and the other errors of loading and computing, which the Flask
         app's handlers turn into problem documents.
     """
-    # The same bytes as Flask's request.query_string, so both paths share one spelling cache.
+    # The bytes of the request target's query (WSGI passes them as latin-1 text).
     query = environ.get("QUERY_STRING", "").encode("latin1")
     known = known_question(state.caching, question.name, query,
                            lambda: loaded_query(question, environ))
@@ -51,9 +52,30 @@ def reply_to(state: ServiceState, question: Question, environ: WsgiEnviron) -> R
 
 
 def loaded_query(question: Question, environ: WsgiEnviron) -> Inputs:
-    """The inputs in the query string, parsed by Werkzeug exactly as ``request.args`` is."""
-    args = Request(environ).args
-    return question.load({name: args.getlist(name) for name in args})
+    """The inputs in the request's query string."""
+    return question.load(query_texts(environ.get("QUERY_STRING", "").encode("latin1")))
+
+
+def query_texts(query: bytes) -> dict[str, list[str]]:
+    """Parameter name -> the texts given, in order, from a query string.
+
+    Percent-escapes are decoded as UTF-8; an escape that is not UTF-8 becomes U+FFFD, which
+    no parameter accepts. Raw bytes must be UTF-8 text.
+
+    >>> query_texts(b"count=1e6&bits=64&count=%31")
+    {'count': ['1e6', '1'], 'bits': ['64']}
+
+    :raises InvalidQuery: for raw bytes that are not UTF-8.
+    """
+    try:
+        text = query.decode()
+    except UnicodeDecodeError:
+        raise InvalidQuery({"query": [
+            "the query string must be UTF-8 text; percent-encode other bytes"]}) from None
+    texts: dict[str, list[str]] = {}
+    for name, value in parse_qsl(text, keep_blank_values=True, errors="replace"):
+        texts.setdefault(name, []).append(value)
+    return texts
 
 
 def prefers_chart(accept: str | None) -> bool:
