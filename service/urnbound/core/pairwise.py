@@ -62,13 +62,14 @@ def collision_risk(
     >>> r.method, r.collision.decimal
     ('exact', '5.0729723432398540723e-1')
     """
-    _check_question(size, count)
+    check_question(size, count)
     if choose_method(size, count, exact_digit_limit) == EXACT:
         return _exact_answer(size, count)
     return _asymptotic_answer(size, count, target_bits)
 
 
-def _check_question(size: int, count: int) -> None:
+def check_question(size: int, count: int) -> None:
+    """Refuse a size outside 1 .. 2**MAX_SIZE_BITS or a negative count (DomainError)."""
     too_big = size.bit_length() > MAX_SIZE_BITS + 1 or (
         size.bit_length() == MAX_SIZE_BITS + 1 and size & (size - 1) != 0)
     if size < 1 or too_big:

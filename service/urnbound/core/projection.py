@@ -35,7 +35,7 @@ from __future__ import annotations
 
 import functools
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from fractions import Fraction
 from typing import TYPE_CHECKING, Union
@@ -45,19 +45,19 @@ from mpmath.libmp import libmpi
 
 from urnbound.core import precision as mp
 from urnbound.core.errors import DomainError, NoConvergence
+from urnbound.core.growth_counts import YEAR_SECONDS, growth_counts
 from urnbound.core.inverse import CountFamily, largest_count
 from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, SERIES_EXACT_DIGIT_LIMIT
 from urnbound.core.pairwise import collision_risk
 from urnbound.core.precision import Real
 from urnbound.core.results import CapacityAnswer, CollisionRisk
 from urnbound.core.search import RiskInterval, certified_boundary
+from urnbound.core.series_risk import SeriesRisk, series_risks
 
 if TYPE_CHECKING:
     from urnbound.core.tick_budgets import TickCapacity
     from urnbound.core.ticks import TickRisk
 
-#: Seconds in the year the growth factor applies to: 365 days.
-YEAR_SECONDS = 365 * 86_400
 #: Doublings of the precision of one count enclosure before giving up.
 MAX_COUNT_TRIES = 8
 #: Bits added to the precision a count needs (its own bits) for the first enclosure.
@@ -66,8 +66,9 @@ COUNT_GUARD_BITS = 64
 WIDENING_BITS = 6
 
 Interval = tuple[Real, Real]
-#: The risk at a moment: pairwise, or the tick model's for a time-ordered layout.
-PointRisk = Union[CollisionRisk, "TickRisk"]
+#: The risk at a moment: pairwise (alone, or one of a series' batch), or the tick model's
+#: for a time-ordered layout.
+PointRisk = Union[CollisionRisk, SeriesRisk, "TickRisk"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -290,8 +291,9 @@ class ProjectedPoint:
 
     :ivar seconds: the moment, in seconds from now (exact).
     :ivar count: n(t), the identifiers issued by then.
-    :ivar risk: the pairwise risk of ``count`` identifiers (for a time-ordered layout, the
-        tick model's risk of the identifiers issued by then).
+    :ivar risk: the pairwise risk of ``count`` identifiers (for a series moment, often
+        from the batch of ``series_risk.py``, which reports the risk alone; for a
+        time-ordered layout, the tick model's risk of the identifiers issued by then).
     """
 
     seconds: Fraction
@@ -370,9 +372,10 @@ def project_budget(
 
     Now is ``start`` seconds into the schedule (0: the schedule starts now; a watched
     scheme counted some time ago starts earlier); every reported moment is an offset from
-    now. Each moment's risk takes the exact path only up to ``SERIES_EXACT_DIGIT_LIMIT``
-    digits (the expansion, with its bound, above), so that 500 moments cost what a few
-    answers do; the capacity and the search keep ``exact_digit_limit``.
+    now. The series' risks come from one batch (``series_risk.series_risks``: one MPFR
+    evaluation per count with a shared bound, the certified path for the rest); each takes
+    the exact path only up to ``SERIES_EXACT_DIGIT_LIMIT`` digits, so that 500 moments cost
+    what a few answers do; the capacity and the search keep ``exact_digit_limit``.
 
     >>> p = project_budget(2**64, IssueSchedule(0, Fraction(1000)), Fraction(86400 * 365),
     ...                    Fraction(1, 10**6), 3)
@@ -387,20 +390,27 @@ def project_budget(
         raise DomainError("horizon must be above 0", field="horizon")
     if start < 0:
         raise DomainError("the schedule starts after now", field="start")
-    risks: dict[int, CollisionRisk] = {}
     point_limit = min(exact_digit_limit, SERIES_EXACT_DIGIT_LIMIT)
     bits = schedule.first_bits(start + horizon) if schedule.growth != 1 else None
 
+    def count_at(offset: Fraction) -> int:
+        return schedule.count_at(start + offset if start else offset, bits)  # <= c(horizon)
+
+    capacity = largest_count(size, max_risk, exact_digit_limit=exact_digit_limit)
+    moments = series_moments(horizon, points)
+    counts = _series_counts(schedule, start, moments, bits)
+    risks: dict[int, PointRisk] = dict(zip(
+        counts, series_risks(size, counts, exact_digit_limit=point_limit), strict=True))
+
     def point(offset: Fraction) -> ProjectedPoint:
-        moment = start + offset if start else offset
-        count = schedule.count_at(moment, bits)  # c(t) <= c(start + horizon)
+        count = count_at(offset)
         risk = risks.get(count)
         if risk is None:
             risk = risks[count] = collision_risk(size, count, exact_digit_limit=point_limit)
         return ProjectedPoint(offset, count, risk)
 
-    capacity = largest_count(size, max_risk, exact_digit_limit=exact_digit_limit)
-    series = tuple(point(t) for t in series_moments(horizon, points))
+    series = tuple(ProjectedPoint(t, count, risks[count]) for t, count in zip(
+        moments, counts, strict=True))
     now, at_horizon = series[0], series[-1]
     family = SecondsFamily(CountFamily(size, exact_digit_limit), schedule,
                            math.floor(start + horizon), capacity.count, math.floor(start))
@@ -411,6 +421,17 @@ def project_budget(
         headroom=max(0, capacity.count - now.count),
         capacity_used=Fraction(now.count, capacity.count), series=series,
     )
+
+
+def _series_counts(schedule: IssueSchedule, start: Fraction, moments: Sequence[Fraction],
+                   bits: int | None) -> list[int]:
+    """n(start + t) at each moment: with growth, one MPFR batch (``growth_counts``) first."""
+    times = [start + t for t in moments] if start else list(moments)
+    if bits is None:
+        return [schedule.count_at(t) for t in times]
+    found = growth_counts(schedule.issued, schedule.rate, schedule.growth, times, bits)
+    return [schedule.count_at(t, bits) if count is None else count
+            for t, count in zip(times, found, strict=True)]
 
 
 def _exhaustion(

@@ -1,0 +1,295 @@
+"""Pairwise collision risks of many counts of one space, in one batch with one shared bound.
+
+A budget's series asks the risk at up to 500 counts of one space and reports only the
+risk itself (not its complement). ``pairwise.collision_risk`` certifies each count on its
+own (about 35 us each); here every count in the regime below is evaluated with MPFR
+(gmpy2) at ``PREC`` bits, rounding to nearest, so that each operation is off by at most
+u = 2**-PREC relative, and one relative bound e on the risk, proven for the whole batch,
+serves every count. A count whose float is undecided at that bound, and every count
+outside the regime, takes ``collision_risk``.
+
+Regime: the expansion's counts (``regimes.choose_method`` gives ``asymptotic``, so
+N >= 1024 and 2 <= n) with 129 n <= N, that is x = n/N < 2**-7.
+
+Formula. With M = N - n, ln P(no collision) is (``asymptotic.py``)
+
+    L = -(M + 1/2) log1p(-x) - n + D,   D = R(N) - R(M),
+
+and as n = N x the two leading terms are -x S(x), with
+
+    S(y) = n P(y) - Q(y)/2,   P(y) = sum_{k>=2} y**(k-2) / (k (k-1)),
+                              Q(y) = sum_{k>=2} y**(k-2) / (k-1) = -log1p(-y) / y,
+
+two series of positive terms with fixed coefficients, summed by Horner's rule to K terms
+each. D is summed to J Stirling terms, the first as -n / (12 N M), the others as
+c_j (N**-(2j-1) - M**-(2j-1)). The risk is -expm1(L).
+
+Error bound, for 0 < y < 2**-7 (1 + 4u), n >= 2. Write S = sum a_k y**(k-2),
+a_k = (2n - k) / (2k (k-1)); |a_k| <= n / (k-1). Then S >= (n-1)/2 - n y / (2(1-y)) >= n/5,
+S <= 0.51 n, and y |S'| <= n y / (1 - y) <= n / 127.
+
+* x = n/N formed from n and N each rounded (at most three roundings): off by 4u. The
+  condition of ln(y S(y)) in ln y is 1 + y S'/S <= 1.04, so x S(x) moves by 4.4u.
+* Horner on positive terms: P and Q off by 2K u each (K coefficients, each rounded);
+  n P - Q/2 off by (2K + 2.01) u (n P + Q/2) + u S absolutely, and (n P + Q/2) <= 3.83 S:
+  (7.7K + 8.7) u relative. The tails beyond K terms are below 5.04 y**K / (K+1) of S;
+  K is the least with y**K <= 2**-(PREC + 4) at the batch's largest count (K >= 2), so
+  they are below 0.11u. The product x S, one more u: the main term m is off by
+  (7.7K + 14.3) u.
+* |L| >= |m| = x S >= n**2 / (5N). The Stirling remainder after J terms is below the first
+  omitted term for both N and M, of one sign (DLMF 5.11.ii), so below |c_(J+1)| M**-(2J+1)
+  and, with M >= 128N/129, below 1.48 |c_(J+1)| N**-2J of |L|; J is the least with that
+  under 2**-(PREC + 4). The first term (off by 7u) is 5 / (12 n M) <= 1/4000 of |L|, the
+  others (off by (2k + 6) u of M**-k each, k = 2j - 1 >= 3) and the J - 1 additions below
+  u/60 of |L| together: D is off by under u/8 of |L|.
+* m and D are both negative, so their sum, rounded once, is off by (7.7K + 15.5) u of |L|.
+* d ln(-expm1(L)) / dL = 1 / (e**|L| - 1) <= 1 / |L|, so a relative error d in L moves the
+  risk by a factor within exp(d / (1 - d)); expm1 rounds once more. The risk is off by
+  e = (8K + 32) u relative, with room for every second-order term.
+
+The float of a risk r computed as v is decided as ``reporting.interval_float`` decides it:
+r lies in [v (1 - e), v (1 + e (1 + 2e))], both ends rounded outwards; when both round to
+the same float (nearest, subnormals included), that is the float of r. The decimal text is
+v rounded to 20 digits, nearest (its bound ``reporting.text_bound(e)``); log10 is that of
+the float, or for a risk of 1/2 and more log1p(-exp(L)) / ln 10 from the complement.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass
+from fractions import Fraction
+
+import gmpy2
+from mpmath import libmp
+
+from urnbound.core import reporting
+from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT
+from urnbound.core.pairwise import check_question, collision_risk
+from urnbound.core.regimes import choose_method
+from urnbound.core.results import ASYMPTOTIC, CollisionRisk, Magnitude, Method
+
+#: Working precision of the batch, in bits (u = 2**-PREC).
+PREC = 128
+#: A count is in the batch's regime when RATIO_LIMIT n <= N (x < 2**-7).
+RATIO_LIMIT = 129
+#: Most Stirling terms of D; a space needing more (never above 1,024 values) is left out.
+MAX_STIRLING_TERMS = 8
+#: The truncation targets: 2**-(PREC + TAIL_BITS), u / 16.
+TAIL_BITS = 4
+#: Smallest positive normal float64.
+_SMALLEST_NORMAL = 2.0**-1022
+
+
+@dataclass(frozen=True, slots=True)
+class SeriesRisk:
+    """The risk of one count of a batch (its complement is not formed).
+
+    :ivar collision: P(some two of ``count`` identifiers are equal).
+    :ivar relative_error_bound: the bound of ``collision.decimal`` (the batch's).
+    """
+
+    count: int
+    collision: Magnitude
+    method: Method
+    relative_error_bound: float
+
+
+def series_risks(
+    size: int,
+    counts: Sequence[int],
+    *,
+    exact_digit_limit: int = DEFAULT_EXACT_DIGIT_LIMIT,
+) -> tuple[CollisionRisk | SeriesRisk, ...]:
+    """The collision risk at each of ``counts`` (in their order) in a space of ``size``.
+
+    Counts in the batch's regime come from one MPFR evaluation each (module docstring);
+    the others, and any whose float the batch leaves undecided, from
+    ``collision_risk(size, count, exact_digit_limit=...)``.
+
+    >>> risks = series_risks(2**64, [10**9, 5 * 10**9, 10])
+    >>> [r.collision.decimal for r in risks]  # doctest: +NORMALIZE_WHITESPACE
+    ['2.6741008874431358990e-2', '4.9217905181125277130e-1', '2.4394548880923849740e-18']
+    >>> [r.method for r in risks]
+    ['asymptotic', 'asymptotic', 'exact']
+    """
+    check_question(size, 0)
+    fast = {count for count in counts if _in_regime(size, count, exact_digit_limit)}
+    found: dict[int, CollisionRisk | SeriesRisk] = dict(_batch(size, fast)) if fast else {}
+    answers = []
+    for count in counts:
+        risk = found.get(count)
+        if risk is None:
+            risk = found[count] = collision_risk(size, count,
+                                                 exact_digit_limit=exact_digit_limit)
+        answers.append(risk)
+    return tuple(answers)
+
+
+def _in_regime(size: int, count: int, exact_digit_limit: int) -> bool:
+    return (count >= 2 and RATIO_LIMIT * count <= size
+            and choose_method(size, count, exact_digit_limit) == ASYMPTOTIC)
+
+
+def horner_terms(size: int, largest: int) -> int:
+    """K: the least number of terms with y**K <= 2**-(PREC + TAIL_BITS), at least 2.
+
+    y < 2**-g for every count up to ``largest``, g from the bit lengths (and g >= 7).
+
+    >>> horner_terms(2**64, 10**9), horner_terms(2**8192, 2)
+    (4, 2)
+    """
+    gap = max(7, size.bit_length() - largest.bit_length() - 1)
+    return max(2, -(-(PREC + TAIL_BITS) // gap))
+
+
+def stirling_terms(size: int) -> int | None:
+    """J: the least number of Stirling terms of D whose remainder is negligible, or ``None``.
+
+    1.48 |c_(J+1)| N**-2J <= 2**-(PREC + TAIL_BITS), with N >= 2**(b-1), checked in integers.
+
+    >>> stirling_terms(2**64), stirling_terms(62**8), stirling_terms(1024)
+    (1, 2, 7)
+    """
+    low_bits = size.bit_length() - 1
+    for terms in range(1, MAX_STIRLING_TERMS + 1):
+        following = stirling_coefficient(terms + 1)
+        if (148 * abs(following.numerator) << (PREC + TAIL_BITS)
+                <= 100 * following.denominator << (2 * terms * low_bits)):
+            return terms
+    return None
+
+
+def stirling_coefficient(j: int) -> Fraction:
+    """c_j = B_2j / (2j (2j - 1)), the j-th coefficient of the Stirling series R(z)."""
+    numerator, denominator = libmp.bernfrac(2 * j)
+    return Fraction(int(numerator), int(denominator) * 2 * j * (2 * j - 1))
+
+
+def risk_bound(terms: int) -> Fraction:
+    """e = (8K + 32) 2**-PREC, the relative bound of every risk of a batch of K terms."""
+    return Fraction(8 * terms + 32, 2**PREC)
+
+
+def _batch(size: int, counts: Iterable[int]) -> Iterable[tuple[int, SeriesRisk]]:
+    """(count, risk) for each count whose float is decided at the batch's bound."""
+    ordered = sorted(counts)
+    stirling = stirling_terms(size)
+    if stirling is None:  # pragma: no cover - every space of the regime has N >= 1024
+        return
+    batch = RiskBatch(size, horner_terms(size, ordered[-1]), stirling)
+    with batch.ctx:  # the current context: what ``digits`` rounds by (to nearest)
+        for count in ordered:
+            collision = batch.magnitude(count)
+            if collision is not None:
+                yield count, SeriesRisk(count, collision, ASYMPTOTIC, batch.text_bound)
+
+
+def _context(round_mode: int) -> gmpy2.context:
+    return gmpy2.context(precision=PREC, round=round_mode, emin=gmpy2.get_emin_min(),
+                         emax=gmpy2.get_emax_max())
+
+
+class RiskBatch:
+    """One batch: its contexts, coefficients, N and bound (made per call, never shared).
+
+    :param terms: K, Horner terms (``horner_terms`` of the largest count).
+    :param stirling: J, Stirling terms (``stirling_terms``).
+    """
+
+    def __init__(self, size: int, terms: int, stirling: int) -> None:
+        self.ctx = ctx = _context(gmpy2.RoundToNearest)
+        self.down, self.up = _context(gmpy2.RoundDown), _context(gmpy2.RoundUp)
+        self.double = gmpy2.ieee(64)  # round to nearest, subnormals as float64 has them
+        self.zero, self.half = gmpy2.mpfr(0), gmpy2.mpfr(0.5)
+        self.size = size
+        self.big = ctx.add(size, self.zero)  # N rounded once
+        self.twelve_big = ctx.mul(self.big, 12)
+        # Horner's rule runs from the highest coefficient down.
+        self.p_coefficients = tuple(ctx.div(1, k * (k - 1)) for k in range(terms + 1, 1, -1))
+        self.q_coefficients = tuple(ctx.div(1, k - 1) for k in range(terms + 1, 1, -1))
+        # (c_j, N**-k rounded, k) for the Stirling terms j = 2 .. J, k = 2j - 1
+        self.stirling = tuple(
+            (ctx.add(gmpy2.mpq(c.numerator, c.denominator), self.zero),
+             ctx.pow(self.big, 1 - 2 * j), 2 * j - 1)
+            for j in range(2, stirling + 1) for c in (stirling_coefficient(j),))
+        self.bound = bound = risk_bound(terms)
+        self.shrink = self.down.sub(1, gmpy2.mpq(bound.numerator, bound.denominator))
+        stretch = bound * (1 + 2 * bound)
+        self.stretch = self.up.add(1, gmpy2.mpq(stretch.numerator, stretch.denominator))
+        self.text_bound = reporting.text_bound(
+            libmp.from_rational(bound.numerator, bound.denominator, 53, libmp.round_ceiling))
+        self.ln10 = ctx.log(10)
+
+    def log_no_collision(self, count: int) -> gmpy2.mpfr:
+        """L at ``count`` (module docstring), rounded to nearest at PREC bits.
+
+        Integers are converted as they enter an operation (each rounded at most once);
+        ``fma``/``fms`` round once where the bound allows two roundings.
+        """
+        ctx = self.ctx
+        x = ctx.div(count, self.big)
+        series = ctx.fms(count, _horner(ctx, self.p_coefficients, x),
+                         ctx.mul(_horner(ctx, self.q_coefficients, x), self.half))
+        rest = self.size - count
+        stirling = ctx.div(count, ctx.mul(self.twelve_big, rest))  # -D, first term
+        if self.stirling:
+            stirling = ctx.sub(stirling, self.higher_stirling(ctx.add(rest, self.zero)))
+        return ctx.minus(ctx.fma(x, series, stirling))
+
+    def higher_stirling(self, rest: gmpy2.mpfr) -> gmpy2.mpfr:
+        """sum_{j=2..J} c_j (N**-k - M**-k), k = 2j - 1."""
+        ctx = self.ctx
+        total = self.zero
+        for coefficient, big_power, power in self.stirling:
+            difference = ctx.sub(big_power, ctx.pow(rest, -power))
+            total = ctx.fma(coefficient, difference, total)
+        return total
+
+    def risk(self, log_no: gmpy2.mpfr) -> gmpy2.mpfr:
+        """-expm1(L) rounded to nearest: within ``bound`` (relative) of the true risk."""
+        return self.ctx.minus(self.ctx.expm1(log_no))
+
+    def magnitude(self, count: int) -> Magnitude | None:
+        """The risk at ``count`` reported, or ``None`` when its float is undecided.
+
+        Run inside ``with batch.ctx`` (the decimal digits round as the current context).
+        """
+        log_no = self.log_no_collision(count)
+        risk = self.risk(log_no)
+        value = self.rounded_float(risk)
+        if value is None:
+            return None
+        return Magnitude(value, _decimal(risk), self.log10(risk, log_no, value),
+                         self.text_bound)
+
+    def rounded_float(self, risk: gmpy2.mpfr) -> float | None:
+        """The float of the true risk, if every value within the bound rounds to it."""
+        low = self.double.plus(self.down.mul(risk, self.shrink))
+        high = self.double.plus(self.up.mul(risk, self.stretch))
+        return float(low) if low == high else None
+
+    def log10(self, risk: gmpy2.mpfr, log_no: gmpy2.mpfr, value: float) -> float:
+        """log10 of the risk, as a float (``Magnitude.log10``)."""
+        ctx = self.ctx
+        if risk >= self.half:  # from the complement exp(L), which keeps its relative accuracy
+            complement = ctx.exp(log_no)
+            return float(ctx.div(ctx.log1p(ctx.minus(complement)), self.ln10)) + 0.0
+        if value >= _SMALLEST_NORMAL:
+            return math.log10(value)
+        return float(ctx.log10(risk))
+
+
+def _horner(ctx: gmpy2.context, coefficients: tuple[gmpy2.mpfr, ...],
+            y: gmpy2.mpfr) -> gmpy2.mpfr:
+    total = coefficients[0]
+    for coefficient in coefficients[1:]:
+        total = ctx.fma(total, y, coefficient)
+    return total
+
+
+def _decimal(risk: gmpy2.mpfr) -> str:
+    """20 significant digits of ``risk`` (> 0), rounded as the current context rounds."""
+    digits, exponent, _prec = risk.digits(10, reporting.DECIMAL_DIGITS)
+    return reporting.scientific_text(digits, int(exponent) - 1)

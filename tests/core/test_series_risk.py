@@ -1,0 +1,168 @@
+"""The batch of a series' risks against mpmath at high precision, and its fallbacks.
+
+Every risk of the batch is held against the pairwise risk from mpmath's log-gamma (or the
+direct product) in a private context of 4 log2 N + 200 bits (tests/core/_reference.py):
+the unrounded MPFR value within the batch's shared bound, the float equal to the correct
+rounding of the reference, the decimal text within its reported bound, log10 close.
+Counts outside the batch's regime, and any whose float it leaves open, are the answers
+of ``pairwise.collision_risk`` itself.
+"""
+
+from __future__ import annotations
+
+from fractions import Fraction
+
+import pytest
+from hypothesis import HealthCheck, example, given, settings
+from hypothesis import strategies as st
+from tests.core._reference import (
+    high_precision_risk,
+    ln_of_text,
+    nearest_float,
+    relative_gap,
+    rounding_is_settled,
+)
+
+from urnbound.core.pairwise import collision_risk
+from urnbound.core.results import CollisionRisk
+from urnbound.core.series_risk import (
+    RATIO_LIMIT,
+    RiskBatch,
+    SeriesRisk,
+    horner_terms,
+    risk_bound,
+    series_risks,
+    stirling_terms,
+)
+
+#: Spaces from the smallest the expansion serves to the largest the service takes.
+SIZES = (1024, 10**6, 2**32, 62**8, 2**64, 36**14, 2**122, 2**256, 10**300, 2**8192)
+
+
+def counts_of(size: int) -> list[int]:
+    """2, 3, the regime's end floor(N / 129) and its neighbour, and a dozen counts between,
+    spread over the bit lengths (not powers of two: 3 * 2**k + 1)."""
+    top = size // RATIO_LIMIT
+    found = {2, 3, top, max(2, top - 1)}
+    bits = top.bit_length()
+    for step in range(12):
+        count = 3 * 2 ** (2 + (bits - 4) * step // 11) + 1
+        if count < top:
+            found.add(count)
+    return sorted(found)
+
+
+def assert_within_bound(size: int, count: int, batch: RiskBatch) -> None:
+    """|MPFR risk - reference| <= bound * reference, at the reference's precision."""
+    ref = high_precision_risk(size, count)
+    mp = ref.mp
+    value = batch.risk(batch.log_no_collision(count))
+    numerator, denominator = value.as_integer_ratio()
+    ours = mp.mpf(numerator) / denominator
+    gap = abs(ours / mp.exp(ref.ln_risk) - 1)
+    assert gap <= mp.mpf(batch.bound.numerator) / batch.bound.denominator
+
+
+def assert_reported(size: int, risk: SeriesRisk | CollisionRisk) -> None:
+    """Float correctly rounded, text within its bound, log10 near, all from the reference."""
+    ref = high_precision_risk(size, risk.count)
+    mp = ref.mp
+    collision = risk.collision
+    true = mp.exp(ref.ln_risk)
+    if rounding_is_settled(mp, true, 16):
+        assert collision.value == nearest_float(true)
+    gap = relative_gap(mp, ln_of_text(mp, collision.decimal), ref.ln_risk)
+    assert gap <= collision.relative_error_bound <= risk.relative_error_bound
+    assert collision.log10 == pytest.approx(float(ref.ln_risk / mp.ln10), rel=1e-12, abs=0)
+
+
+@pytest.mark.parametrize("size", SIZES, ids=lambda size: f"{size.bit_length()}-bits")
+def test_every_risk_of_a_batch_is_within_the_shared_bound(size: int) -> None:
+    counts = counts_of(size)
+    stirling = stirling_terms(size)
+    assert stirling is not None
+    batch = RiskBatch(size, horner_terms(size, counts[-1]), stirling)
+    for count in counts:
+        assert_within_bound(size, count, batch)
+
+
+@pytest.mark.parametrize("size", SIZES, ids=lambda size: f"{size.bit_length()}-bits")
+def test_batch_answers_match_the_reference(size: int) -> None:
+    counts = counts_of(size)
+    risks = series_risks(size, counts, exact_digit_limit=0)  # every count takes the batch
+    assert [r.count for r in risks] == counts
+    for risk in risks:
+        assert isinstance(risk, SeriesRisk) and risk.method == "asymptotic"
+        assert_reported(size, risk)
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(bits=st.one_of(st.integers(10, 200), st.integers(200, 8192)), data=st.data())
+@example(bits=64, data=None)
+def test_random_spaces_and_counts_match_the_reference(bits: int, data: st.DataObject) -> None:
+    if data is None:  # the explicit example: 2**64 and its largest count in the regime
+        size, count = 2**64, 2**64 // RATIO_LIMIT
+    else:
+        size = data.draw(st.integers(max(1024, 2 ** (bits - 1)), 2**bits))
+        count = data.draw(st.integers(2, size // RATIO_LIMIT))
+    stirling = stirling_terms(size)
+    assert stirling is not None
+    assert_within_bound(size, count, RiskBatch(size, horner_terms(size, count), stirling))
+    (risk,) = series_risks(size, [count], exact_digit_limit=0)
+    assert_reported(size, risk)
+
+
+def test_the_bound_is_the_stated_one_and_tight_enough_to_decide_floats() -> None:
+    # K terms give e = (8K + 32) 2**-128: below 2**-120 for every K the regime allows
+    assert horner_terms(2**64, 2**64 // RATIO_LIMIT) == 19
+    assert risk_bound(19) == Fraction(184, 2**128) < Fraction(1, 2**120)
+    (risk,) = series_risks(2**64, [10**9])
+    assert isinstance(risk, SeriesRisk)
+    assert 5e-20 < risk.relative_error_bound < 5.0000001e-20
+
+
+def test_counts_outside_the_regime_are_the_certified_answers() -> None:
+    size = 2**64
+    outside = [0, 1, 10, 100, size // RATIO_LIMIT + 1, size // 2, size, size + 1]
+    risks = series_risks(size, outside)  # 10 and 100: exact at the default limit
+    for count, risk in zip(outside, risks, strict=True):
+        assert isinstance(risk, CollisionRisk)
+        assert risk == collision_risk(size, count)
+
+
+def test_small_spaces_never_take_the_batch() -> None:
+    # below 1,024 values every count is exact (birthday bound: 23 of 365, OEIS A033810)
+    (risk,) = series_risks(365, [23], exact_digit_limit=0)
+    assert isinstance(risk, CollisionRisk) and risk.method == "exact"
+    assert risk.collision.value >= 0.5
+
+
+def test_an_undecided_float_falls_back_to_the_certified_path(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    monkeypatch.setattr(RiskBatch, "rounded_float", lambda self, risk: None)
+    counts = [10**9, 2 * 10**9]
+    for count, risk in zip(counts, series_risks(2**64, counts), strict=True):
+        assert isinstance(risk, CollisionRisk)
+        assert risk == collision_risk(2**64, count, exact_digit_limit=2_000)
+
+
+def test_answers_follow_the_given_order_with_repeats() -> None:
+    counts = [5 * 10**9, 10**9, 5 * 10**9, 0]
+    risks = series_risks(2**64, counts)
+    assert [r.count for r in risks] == counts
+    assert risks[0] is risks[2]
+
+
+def test_risks_near_one_take_log10_from_the_complement() -> None:
+    # 2.9e10 of 2**64: L ~ -22.8, risk 1 - 1.3e-10; log10 ~ -5.7e-11 (reference: log1p)
+    (risk,) = series_risks(2**64, [29 * 10**9])
+    assert isinstance(risk, SeriesRisk) and 0.5 < risk.collision.value < 1.0
+    assert -1e-10 < risk.collision.log10 < -1e-11
+    assert_reported(2**64, risk)
+    # 2**40 of 2**64: L ~ -2**15, the risk 1 to every digit shown, its log10 below any float
+    (risk,) = series_risks(2**64, [2**40])
+    assert isinstance(risk, SeriesRisk)
+    assert risk.collision.value == 1.0 and risk.collision.decimal == "1.0000000000000000000e0"
+    assert risk.collision.log10 == 0.0
+    assert_reported(2**64, risk)
