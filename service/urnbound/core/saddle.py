@@ -42,6 +42,7 @@ Rounding is carried by the balls.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 from flint import arb, ctx
@@ -114,7 +115,13 @@ def _saddle(mean: arb, rule: Rule, prec: int) -> arb:
 
     d(E X_y)/d(ln y) = sigma**2 > 0, so E X_y rises with y: a bracket in ln y is kept,
     and a step that would leave it bisects instead (or moves by 2 while one side is open).
+    Where the saddle point lies within 2**-NEAR_BITS of ln lambda (the conditioning
+    removes little mass: a tail question, or a full coverage), the first Newton step is
+    taken at ``prec`` bits from ln lambda and the polish goes on from it (``_near_mean``).
     """
+    near = _near_mean(mean, rule, prec)
+    if near is not None:
+        return near
     low: float | None = None
     high: float | None = None
     with precision(64):
@@ -161,15 +168,40 @@ def _extra_bits(y: arb, rule: Rule) -> int:
     return 4 * max(0, far + 1) + 16
 
 
-def _polish(log_y: arb, mean: arb, rule: Rule, prec: int) -> arb:
-    """Newton steps at ``prec`` bits from a saddle point good to 2**-40 in ln y.
+#: The first Newton step from ln lambda is kept at full precision when it moves ln y by
+#: less than 2**-NEAR_BITS: the point it reaches is then good to about 2**(1 - 2 NEAR_BITS)
+#: (the step's error is (kappa_3 / 2 sigma**2) times its square, and kappa_3 / sigma**2
+#: is near 1 where the conditioning removes little mass), so the polish starts at
+#: 2 NEAR_BITS - 8 good bits.
+NEAR_BITS = 24
+
+
+def _near_mean(mean: arb, rule: Rule, prec: int) -> arb | None:
+    """The polished saddle point when one Newton step from ln lambda moves it by less than
+    2**-NEAR_BITS, else ``None`` (the bracketed search at 64 bits is then used)."""
+    with precision(prec):
+        log_y = arb(mean.log().mid())
+        gap, variance = _gap(log_y.exp(), mean, rule)
+        move = gap / variance
+        size = abs(float(move.mid()))
+        if not size < 2.0**-NEAR_BITS:
+            return None
+        if size < 2.0 ** (16 - prec):
+            return arb(log_y.exp().mid())
+        good = max(2 * int(-math.log2(size)) - 8, 40)
+        return _polish(arb((log_y - move).mid()), mean, rule, prec, good)
+
+
+def _polish(log_y: arb, mean: arb, rule: Rule, prec: int, good: int = 40) -> arb:
+    """Newton steps at ``prec`` bits from a saddle point good to 2**-good in ln y.
 
     Newton converges quadratically, so each step doubles the bits: the steps stop once
     the last one has moved ln y by less than 2**(16 - prec), or once they carry at least
     ``prec`` bits by that doubling. What is left is accounted for by ``_off_saddle``,
     from the ball of N E X_y - n at the point returned.
     """
-    good = 40
+    if good >= prec:
+        return arb(log_y.exp().mid())
     with precision(prec):
         for _ in range(MAX_NEWTON_STEPS):
             gap, variance = _gap(log_y.exp(), mean, rule)
@@ -190,7 +222,8 @@ def _estimate(buckets: int, count: int, rule: Rule, mean: arb, y: arb,
 def _estimate_at(buckets: int, count: int, rule: Rule, mean: arb, y: arb,
                  prec: int) -> SaddleEstimate | None:
     s = rule.sign
-    removed, kept, t = _parts(y, rule)
+    with precision(_corrections_bits(y, rule, prec)):  # one evaluation serves both
+        removed, kept, t = _parts(y, rule)
     ratio = _spread_ratio(y, t, rule)
     spread = buckets * mean * (1 + ratio)
     if spread.upper() < MIN_SPREAD or not spread.lower() > MIN_SPREAD:
@@ -241,10 +274,11 @@ def _exponent(x: arb) -> int:
 
 def _corrections(buckets: int, count: int, y: arb, t: arb, rule: Rule, spread: arb,
                  prec: int) -> tuple[arb, arb]:
-    """(G_1 + 1/(12n)) + G_2 + (G_3 - 1/(360 n**3)), and the truncation estimate."""
-    scale = max(int(float(y.mid())) + 1, rule.level + 1).bit_length()
-    with precision(prec + TOP_CUMULANT * scale + 32):
-        _, _, t = _parts(y, rule)
+    """(G_1 + 1/(12n)) + G_2 + (G_3 - 1/(360 n**3)), and the truncation estimate.
+
+    ``t`` must carry the bits of :func:`_corrections_bits` (the cumulants cancel them).
+    """
+    with precision(_corrections_bits(y, rule, prec)):
         kappas = _cumulants(y, t, rule)
         variance = kappas[2]
         unit = buckets * variance
@@ -257,6 +291,13 @@ def _corrections(buckets: int, count: int, y: arb, t: arb, rule: Rule, spread: a
             buckets, count, y, t, rule, spread, scaled[3], _spread_ratio(y, t, rule))
         total = first + g2 + third
     return +total, +truncation
+
+
+def _corrections_bits(y: arb, rule: Rule, prec: int) -> int:
+    """Working bits of the corrections: the cumulants of order r cancel about r times the
+    bits of max(y, k) (their polynomials in (y, t) have terms of that size)."""
+    scale = max(int(float(y.mid())) + 1, rule.level + 1).bit_length()
+    return prec + TOP_CUMULANT * scale + 32
 
 
 def _off_saddle(buckets: int, count: int, y: arb, t: arb, rule: Rule, spread: arb,
@@ -281,32 +322,76 @@ def _off_saddle(buckets: int, count: int, y: arb, t: arb, rule: Rule, spread: ar
 
 
 def _cumulants(y: arb, t: arb, rule: Rule) -> dict[int, arb]:
-    """kappa_1 .. kappa_10 of X_y, from the polynomials in (y, t) of the module docstring."""
-    s, c = rule.sign, rule.edge
-    poly: dict[tuple[int, int], int] = {(1, 0): 1, (1, 1): s}
+    """kappa_1 .. kappa_10 of X_y, from the polynomials in (y, t) of the module docstring.
+
+    Their coefficients are polynomials in the edge c (``CUMULANT_TERMS``), evaluated here
+    in integers; the sums over the terms are the only ball arithmetic.
+    """
+    c = rule.edge
     found: dict[int, arb] = {}
     powers_y = [arb(1)]
     powers_t = [arb(1)]
-    for r in range(1, TOP_CUMULANT + 1):
+    for r, terms in enumerate(CUMULANT_TERMS[rule.sign > 0], start=1):
         while len(powers_y) <= r + 1:
             powers_y.append(powers_y[-1] * y)
         while len(powers_t) <= r + 1:
             powers_t.append(powers_t[-1] * t)
-        found[r] = sum((coefficient * powers_y[i] * powers_t[j]
-                        for (i, j), coefficient in poly.items()), arb(0))
-        poly = _derivative(poly, s, c)
+        total = arb(0)
+        for i, j, coefficients in terms:
+            value = 0
+            for coefficient in reversed(coefficients):  # Horner in c
+                value = value * c + coefficient
+            if value:
+                total += value * powers_y[i] * powers_t[j]
+        found[r] = total
     return found
 
 
-def _derivative(poly: dict[tuple[int, int], int], s: int, c: int) -> dict[tuple[int, int], int]:
+#: One polynomial in (y, t) whose coefficients are polynomials in c: (i, j) -> the
+#: coefficients of c**0, c**1, ... of the term y**i t**j.
+_Polynomial = dict[tuple[int, int], tuple[int, ...]]
+
+
+def _derivative(poly: _Polynomial, s: int) -> _Polynomial:
     """y d/dy of a polynomial in (y, t): y**i t**j -> (i + j c) y**i t**j - j y**(i+1) t**j
-    - s j y**(i+1) t**(j+1)."""
-    out: dict[tuple[int, int], int] = {}
-    for (i, j), coefficient in poly.items():
-        for key, factor in (((i, j), i + j * c), ((i + 1, j), -j), ((i + 1, j + 1), -s * j)):
-            if factor:
-                out[key] = out.get(key, 0) + coefficient * factor
-    return {key: value for key, value in out.items() if value}
+    - s j y**(i+1) t**(j+1), with c kept as a variable."""
+    out: dict[tuple[int, int], list[int]] = {}
+
+    def add(key: tuple[int, int], coefficients: list[int]) -> None:
+        target = out.setdefault(key, [])
+        target.extend([0] * (len(coefficients) - len(target)))
+        for power, value in enumerate(coefficients):
+            target[power] += value
+
+    for (i, j), coefficients in poly.items():
+        times_c = [0, *coefficients]  # c times the coefficient polynomial
+        add((i, j), [i * a + j * b for a, b in zip([*coefficients, 0], times_c, strict=True)])
+        if j:
+            add((i + 1, j), [-j * a for a in coefficients])
+            add((i + 1, j + 1), [-s * j * a for a in coefficients])
+    return {key: _trimmed(values) for key, values in out.items() if any(values)}
+
+
+def _trimmed(values: list[int]) -> tuple[int, ...]:
+    """The coefficients without their zero top powers."""
+    while values and values[-1] == 0:
+        values.pop()
+    return tuple(values)
+
+
+def _cumulant_terms(s: int) -> tuple[tuple[tuple[int, int, tuple[int, ...]], ...], ...]:
+    """For r = 1 .. TOP_CUMULANT: the terms (i, j, coefficients in c) of kappa_r."""
+    poly: _Polynomial = {(1, 0): (1,), (1, 1): (s,)}
+    found = []
+    for _ in range(TOP_CUMULANT):
+        found.append(tuple((i, j, values) for (i, j), values in sorted(poly.items())))
+        poly = _derivative(poly, s)
+    return tuple(found)
+
+
+#: The cumulant polynomials for "at least a" (index True, s = +1) and "below k" (s = -1),
+#: formed once at import (pure integers, immutable).
+CUMULANT_TERMS = (_cumulant_terms(-1), _cumulant_terms(1))
 
 
 def _edgeworth(scaled: dict[int, arb]) -> tuple[arb, arb, arb, arb]:
