@@ -176,3 +176,16 @@ def test_every_value_used_twice_among_a_million(shift: float) -> None:
     buckets = 10**6
     count = round(buckets * (math.log(buckets) + math.log(math.log(buckets)) + shift))
     _check(occupancy_risk(buckets, count, Rule(AT_LEAST, 2)), _used_twice(buckets, count))
+
+
+@pytest.mark.parametrize("shift", [-4.0, -1.0, 1.0, 4.0, 20.0, 60.0])
+def test_every_value_used_twice_among_ten_million(shift: float) -> None:
+    # The same check at N = 10^7, from a covered chance near 4e-24 (shift -4) to an uncovered
+    # one near 4e-26 (shift 60): tails below 1e-20 on both sides, against the
+    # inclusion-exclusion of _used_twice.
+    buckets = 10**7
+    count = round(buckets * (math.log(buckets) + math.log(math.log(buckets)) + shift))
+    answer = occupancy_risk(buckets, count, Rule(AT_LEAST, 2))
+    if shift in (-4.0, 60.0):
+        assert min(answer.holds.log10, answer.fails.log10) < -20
+    _check(answer, _used_twice(buckets, count))
