@@ -97,6 +97,22 @@ def test_per_and_rate_per_second_agree(client: FlaskClient) -> None:
     assert daily.get_json() == secondly.get_json()
 
 
+def test_one_rate_per_second_is_one_question_with_one_etag(client: FlaskClient) -> None:
+    # one a second, spelt four ways: the rate is normalised to per-second before the key
+    spellings = ["rate=86400&per=P1D", "rate=1", "rate=3600&per=PT1H",
+                 "rate=0.001&per=PT0.001S"]
+    responses = [client.get(f"{PATH}?bits=80&{rate}&horizon=P30D&max_risk=1e-9")
+                 for rate in spellings]
+    assert all(r.status_code == 200 for r in responses)
+    assert len({r.headers["ETag"] for r in responses}) == 1
+    assert len({r.get_data() for r in responses}) == 1
+    revalidated = client.get(f"{PATH}?bits=80&rate=1&horizon=P30D&max_risk=1e-9",
+                             headers={"If-None-Match": responses[0].headers["ETag"]})
+    assert revalidated.status_code == 304
+    other = client.get(f"{PATH}?bits=80&rate=86401&per=P1D&horizon=P30D&max_risk=1e-9")
+    assert other.headers["ETag"] != responses[0].headers["ETag"]
+
+
 @pytest.mark.parametrize(("query", "field", "phrase"), [
     ("bits=64&rate=5&horizon=P1D&max_risk=1e-6&per=daily", "per", "ISO 8601 duration"),
     ("bits=64&rate=5&horizon=P1D&max_risk=1e-6&per=P1M", "per", "no years or months"),

@@ -97,6 +97,9 @@ class Question:
     :ivar premise: the text of the ``assumptions`` member, or ``None`` for no such member.
     :ivar chart: answer document (the JSON-ready body) -> an SVG chart of it, for questions
         that can be drawn (``domain/charts.py``); ``None`` for the others.
+    :ivar normalize: loaded inputs -> the same question in canonical terms, applied by
+        :meth:`load` (a rate per second in place of a rate per period), so that spellings
+        of one question share one cache entry and ETag; ``None`` when loading suffices.
     """
 
     name: str
@@ -110,6 +113,7 @@ class Question:
     optional: tuple[Parameter, ...] = ()
     premise: str | None = ASSUMPTION
     chart: Callable[[Mapping[str, Any]], bytes] | None = None
+    normalize: Callable[[Inputs], Inputs] | None = None
     fields_by_name: Mapping[str, AnswerField] = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
@@ -117,7 +121,8 @@ class Question:
 
     def load(self, raw: Mapping[str, Sequence[str]]) -> Inputs:
         """The inputs of a request (name -> texts given); raises ``InvalidQuery``."""
-        return load_inputs(self.inputs, self.optional, raw)
+        inputs = load_inputs(self.inputs, self.optional, raw)
+        return inputs if self.normalize is None else self.normalize(inputs)
 
     def answer_to(self, inputs: Inputs, context: Context) -> Answer:
         """Compute the answer; every declared member must be present."""

@@ -217,6 +217,20 @@ SPACING = Parameter(
 )
 
 
+def per_second(inputs: Inputs) -> Inputs:
+    """The inputs with ``rate`` per second (an exact fraction, rate / per) and no ``per``.
+
+    ``rate=86400&per=P1D`` and ``rate=1`` are then one question: one cache entry, one ETag.
+
+    >>> per_second(Inputs({"rate": Fraction(2 * 10**6), "per": Fraction(86400)}))["rate"]
+    Fraction(625, 27)
+    """
+    per = inputs["per"]
+    if per is None:
+        return inputs
+    return Inputs({**inputs.entries, "rate": inputs["rate"] / per, "per": None})
+
+
 def refuse_time_ordered(inputs: Inputs) -> None:
     """Refuse a time-ordered space (curves): its tick model takes no count."""
     if getattr(inputs["space"], "tick_seconds", None) is not None:

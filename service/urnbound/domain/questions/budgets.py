@@ -63,6 +63,7 @@ from urnbound.domain.schedules import (
     PER,
     POINTS,
     elapsed_text,
+    per_second,
 )
 
 
@@ -207,6 +208,7 @@ QUESTION = Question(
     ),
     compute=_answer,
     chart=charts.budget_chart,
+    normalize=per_second,
     example={"bits": "64", "issued": "4e7", "rate": "2e6", "per": "P1D", "horizon": "P730D",
              "max_risk": "1e-3", "points": "5"},
 )
