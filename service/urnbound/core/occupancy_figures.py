@@ -28,6 +28,8 @@ from urnbound.core.results import Magnitude
 EXACT_BITS = 20_000
 #: Largest N for which N H_N is formed as an exact fraction.
 EXACT_HARMONIC = 2_000
+#: Terms of the harmonic sum added one by one before the halves are combined.
+HARMONIC_RUN = 32
 #: Most rows of a load profile.
 MAX_PROFILE_ROWS = 64
 #: Working precision of the ball figures, and how often it is doubled.
@@ -115,10 +117,27 @@ def expected_draws_to_cover(buckets: int) -> Magnitude:
     '2.2496026691647125288e2'
     """
     if buckets <= EXACT_HARMONIC:
-        harmonic = sum((Fraction(1, j) for j in range(1, buckets + 1)), Fraction(0))
-        total = buckets * harmonic
-        return magnitude_of_fraction(total.numerator, total.denominator)
+        numerator, denominator = _harmonic(1, buckets + 1)
+        return magnitude_of_fraction(int(buckets * numerator), int(denominator))
     return _from_ball(lambda: buckets * ((arb(buckets) + 1).digamma() + arb.const_euler()))
+
+
+def _harmonic(low: int, high: int) -> tuple[gmpy2.mpz, gmpy2.mpz]:
+    """1/low + ... + 1/(high - 1) as an unreduced fraction (p, q), by binary splitting:
+    the halves' sums are combined, so the integers grow evenly; runs of up to
+    ``HARMONIC_RUN`` terms are added one by one (small integers).
+
+    >>> [int(part) for part in _harmonic(1, 4)]  # 1 + 1/2 + 1/3 = 11/6
+    [11, 6]
+    """
+    if high - low <= HARMONIC_RUN:
+        numerator, denominator = gmpy2.mpz(0), gmpy2.mpz(1)
+        for j in range(low, high):
+            numerator, denominator = numerator * j + denominator, denominator * j
+        return numerator, denominator
+    middle = (low + high) // 2
+    first, second = _harmonic(low, middle), _harmonic(middle, high)
+    return first[0] * second[1] + second[0] * first[1], first[1] * second[1]
 
 
 def likely_maximum(buckets: int, count: int) -> int:
