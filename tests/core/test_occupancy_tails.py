@@ -64,7 +64,8 @@ def _fraction_of(x: arb) -> Fraction:
 
 TINY = [(3, 7, Rule(BELOW, 3)), (3, 8, Rule(BELOW, 4)), (4, 7, Rule(BELOW, 3)),
         (5, 6, Rule(BELOW, 3)), (3, 8, Rule(AT_LEAST, 1)), (4, 8, Rule(AT_LEAST, 1)),
-        (3, 9, Rule(AT_LEAST, 2)), (4, 8, Rule(AT_LEAST, 2)), (5, 7, Rule(AT_LEAST, 1))]
+        (3, 9, Rule(AT_LEAST, 2)), (4, 8, Rule(AT_LEAST, 2)), (5, 7, Rule(AT_LEAST, 1)),
+        (3, 4, Rule(AT_LEAST, 3)), (4, 5, Rule(BELOW, 3))]
 
 
 @pytest.mark.parametrize(("buckets", "count", "rule"), TINY)

@@ -158,8 +158,8 @@ def _tail_methods(buckets: int, count: int, rule: Rule,
     """
     try:
         plan = tails.tail_plan(buckets, count, rule)
-    except (OverflowError, ValueError):  # a count beyond floats: the one tail first
-        return [_tail_answer], [_second_order_answer]
+    except (OverflowError, ValueError):  # a count beyond floats: the one tail, first
+        return [_tail_answer], []
     if plan is None:  # near the bulk: breaking is not rare
         return [], [_tail_answer]
     within = target * TAIL_MARGIN

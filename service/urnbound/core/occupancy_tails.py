@@ -133,8 +133,8 @@ def _both_below(n: int, p: arb, q: arb, a: int) -> arb:
     T_{i-1} = T_i - q P(Bin(n - i, q) = a - 1), and that term follows by its ratio.
     """
     top = a - 1
-    if top < 0 or n - top < a:
-        return arb(0) if top < 0 else _below_direct(n, p, q, a)
+    if n - top < a:  # too few items for Pascal's rule from the edge (n < 2a - 1)
+        return _below_direct(n, p, q, a)
     weight = balls.binomial_pmf(n, top, p)
     inner = balls.binomial_below(n - top, q, a)
     step = q * balls.binomial_pmf(n - top, top, q)
@@ -156,7 +156,7 @@ def _both_below(n: int, p: arb, q: arb, a: int) -> arb:
 
 
 def _below_direct(n: int, p: arb, q: arb, a: int) -> arb:
-    """The same sum term by term, for n < 2a - 1 (a case the engine answers exactly)."""
+    """The same sum term by term, for n < 2a - 1 (the engine has n >= a N there)."""
     if a > MAX_PAIR_TERMS:
         raise NoConvergence("the two-bucket tail needs too many terms")
     total = arb(0)
