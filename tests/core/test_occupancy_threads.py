@@ -22,6 +22,7 @@ CASES = [
     (10**4, 10**5, Rule(BELOW, 30)),  # saddle point
     (10**7, 15 * 10**6, Rule(BELOW, 3)),  # saddle point, complement near 1e-1772337
     (10**6, 53_815_511, Rule(AT_LEAST, 1)),  # inclusion-exclusion, near 4e-18
+    (10**4, 644, Rule(BELOW, 6)),  # second-order inclusion-exclusion, near 9e-7
     (10**7, 19_999_990, Rule(BELOW, 3)),  # recurrence
     (365, 88, Rule(BELOW, 3)),  # exact
 ]
