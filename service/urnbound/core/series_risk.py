@@ -51,7 +51,7 @@ The float of a risk r computed as v is decided as ``reporting.interval_float`` d
 r lies in [v (1 - e), v (1 + e (1 + 2e))], both ends rounded outwards; when both round to
 the same float (nearest, subnormals included), that is the float of r. The decimal text is
 v rounded to 20 digits, nearest (its bound ``reporting.text_bound(e)``); log10 is that of
-the float, or for a risk of 1/2 and more log1p(-exp(L)) / ln 10 from the complement.
+the float, or for a risk of 1/2 and more log1p(-q) / ln 10 from the complement q.
 """
 
 from __future__ import annotations
@@ -80,6 +80,11 @@ MAX_STIRLING_TERMS = 8
 TAIL_BITS = 4
 #: Smallest positive normal float64.
 _SMALLEST_NORMAL = 2.0**-1022
+#: Below this L, e**L < 2**-1076 and log10(1 - e**L) rounds to 0 in floats.
+_UNDERFLOW_LOG = -746
+#: The least complement 1 - risk taken from the risk itself (else from exp(L)).
+_COMPLEMENT_FLOOR = 2.0**-40
+_LN10 = math.log(10)
 
 
 @dataclass(frozen=True, slots=True)
@@ -116,7 +121,7 @@ def series_risks(
     """
     check_question(size, 0)
     fast = {count for count in counts if _in_regime(size, count, exact_digit_limit)}
-    found: dict[int, CollisionRisk | SeriesRisk] = dict(_batch(size, fast)) if fast else {}
+    found: dict[int, CollisionRisk | SeriesRisk] = {**_batch(size, fast)} if fast else {}
     answers = []
     for count in counts:
         risk = found.get(count)
@@ -172,18 +177,20 @@ def risk_bound(terms: int) -> Fraction:
     return Fraction(8 * terms + 32, 2**PREC)
 
 
-def _batch(size: int, counts: Iterable[int]) -> Iterable[tuple[int, SeriesRisk]]:
-    """(count, risk) for each count whose float is decided at the batch's bound."""
+def _batch(size: int, counts: Iterable[int]) -> dict[int, SeriesRisk]:
+    """count -> risk for each count whose float is decided at the batch's bound."""
     ordered = sorted(counts)
     stirling = stirling_terms(size)
     if stirling is None:  # pragma: no cover - every space of the regime has N >= 1024
-        return
+        return {}
     batch = RiskBatch(size, horner_terms(size, ordered[-1]), stirling)
-    with batch.ctx:  # the current context: what ``digits`` rounds by (to nearest)
+    found = {}
+    with batch.ctx:  # the current context (of this thread): what ``digits`` rounds by
         for count in ordered:
             collision = batch.magnitude(count)
             if collision is not None:
-                yield count, SeriesRisk(count, collision, ASYMPTOTIC, batch.text_bound)
+                found[count] = SeriesRisk(count, collision, ASYMPTOTIC, batch.text_bound)
+    return found
 
 
 def _context(round_mode: int) -> gmpy2.context:
@@ -220,7 +227,6 @@ class RiskBatch:
         self.stretch = self.up.add(1, gmpy2.mpq(stretch.numerator, stretch.denominator))
         self.text_bound = reporting.text_bound(
             libmp.from_rational(bound.numerator, bound.denominator, 53, libmp.round_ceiling))
-        self.ln10 = ctx.log(10)
 
     def log_no_collision(self, count: int) -> gmpy2.mpfr:
         """L at ``count`` (module docstring), rounded to nearest at PREC bits.
@@ -271,14 +277,22 @@ class RiskBatch:
         return float(low) if low == high else None
 
     def log10(self, risk: gmpy2.mpfr, log_no: gmpy2.mpfr, value: float) -> float:
-        """log10 of the risk, as a float (``Magnitude.log10``)."""
+        """log10 of the risk, as a float (``Magnitude.log10``).
+
+        For a risk of 1/2 or more, log1p(-q) / ln 10 from the complement q = e**L: taken
+        as 1 - risk when q >= 2**-40 (then off by e / q <= 2**-80 relative), else as
+        exp(L); below e**-746 < 2**-1076 the quotient rounds to 0 in floats.
+        """
+        if risk < self.half:
+            return math.log10(value) if value >= _SMALLEST_NORMAL else float(
+                self.ctx.log10(risk))
+        if log_no < _UNDERFLOW_LOG:
+            return 0.0
         ctx = self.ctx
-        if risk >= self.half:  # from the complement exp(L), which keeps its relative accuracy
+        complement = ctx.sub(1, risk)
+        if complement < _COMPLEMENT_FLOOR:
             complement = ctx.exp(log_no)
-            return float(ctx.div(ctx.log1p(ctx.minus(complement)), self.ln10)) + 0.0
-        if value >= _SMALLEST_NORMAL:
-            return math.log10(value)
-        return float(ctx.log10(risk))
+        return math.log1p(-float(complement)) / _LN10 + 0.0
 
 
 def _horner(ctx: gmpy2.context, coefficients: tuple[gmpy2.mpfr, ...],
