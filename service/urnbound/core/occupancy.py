@@ -15,7 +15,7 @@ Choice of method, by estimated cost and by regime, never by a fixed n:
    order, [S1 - C(N, 2) p1**2, S1] with S1 = N p1 from one binomial tail: a proven
    relative bound below S1 / 2. Second order, [S1 - S2, S1 - S2 + C(N, 3) p1 p2] with
    S2 = C(N, 2) p2 from the exact joint tail of two buckets: a bound near S1**2 / 6, for
-   a sum of some tens of terms. A float forecast of S1 and of the sum's length
+   a sum of tens to hundreds of terms. A float forecast of S1 and of the sum's length
    (:func:`occupancy_tails.tail_plan`) puts the cheaper bracket forecast to reach the
    target first; either is taken when its bound is at most ``TARGET_BOUND``.
 5. Near either end of the range (few items; or few items short of or beyond a full

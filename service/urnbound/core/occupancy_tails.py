@@ -110,6 +110,7 @@ def _both_at_least(n: int, p: arb, q: arb, k: int) -> arb:
     weight = balls.binomial_pmf(n, k, p)
     inner = balls.binomial_at_least(n - k, q, k)
     step = q * balls.binomial_pmf(n - k - 1, k - 1, q)
+    odds, keep = p / (1 - p), 1 - q
     total = arb(0)
     floor = arb(2) ** -(ctx.prec + 8)
     for i in range(k, min(n - k, k + MAX_PAIR_TERMS) + 1):
@@ -117,13 +118,13 @@ def _both_at_least(n: int, p: arb, q: arb, k: int) -> arb:
         if i == n - k:
             return total
         left = n - i
-        ratio = left * p / ((i + 1) * (1 - p))
+        ratio = left * odds / (i + 1)
         rest = _rest_bound(weight * inner, ratio)
         if rest is not None and rest.upper() < (floor * total).lower():
             return balls.widened(total, rest)
         weight *= ratio
         inner -= step
-        step = step * (left - k) / ((left - 1) * (1 - q))
+        step = step * (left - k) / ((left - 1) * keep)
     raise NoConvergence("the two-bucket tail needs too many terms")
 
 
@@ -138,6 +139,7 @@ def _both_below(n: int, p: arb, q: arb, a: int) -> arb:
     weight = balls.binomial_pmf(n, top, p)
     inner = balls.binomial_below(n - top, q, a)
     step = q * balls.binomial_pmf(n - top, top, q)
+    odds, keep = (1 - p) / p, 1 - q
     total = arb(0)
     floor = arb(2) ** -(ctx.prec + 8)
     for i in range(top, max(-1, top - MAX_PAIR_TERMS), -1):
@@ -145,13 +147,13 @@ def _both_below(n: int, p: arb, q: arb, a: int) -> arb:
         if i == 0:
             return total
         used = n - i
-        ratio = i * (1 - p) / ((used + 1) * p)
+        ratio = i * odds / (used + 1)
         rest = _rest_bound(weight * inner, ratio)
         if rest is not None and rest.upper() < (floor * total).lower():
             return balls.widened(total, rest)
         weight *= ratio
         inner -= step
-        step = step * (used + 1) * (1 - q) / (used - top + 1)
+        step = step * (used + 1) * keep / (used - top + 1)
     raise NoConvergence("the two-bucket tail needs too many terms")
 
 
