@@ -95,7 +95,8 @@ def _holds(buckets: int, count: int, rule: Rule) -> mpmath.mpf:
 
     def integrand(t: mpmath.mpf) -> mpmath.mpc:
         z = r * ctx.expj(t)
-        return ctx.exp(buckets * (_log_terms(rule, z) - log_peak) - 1j * count * t)
+        # ctx.j, not Python's 1j: 1j * count would round a count past 2^53 to a float.
+        return ctx.exp(buckets * (_log_terms(rule, z) - log_peak) - ctx.j * (count * t))
 
     edge = min(WINDOW * width, ctx.pi)
     if edge < ctx.pi:
@@ -130,6 +131,8 @@ CASES = [
     (10**5, 10**5 * 16, Rule(AT_LEAST, 4)),
     (10**7, 10**7 * 21, Rule(AT_LEAST, 3)),
     (10**6, 10**6 * 40, Rule(AT_LEAST, 3)),  # some bucket used under three times: 4e-9
+    (2**128, 10**25, Rule(BELOW, 3)),  # three identifiers sharing a 128-bit value: 1.4e-3
+    (10**12, 30 * 10**12, Rule(AT_LEAST, 2)),
 ]
 
 
