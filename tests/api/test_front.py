@@ -147,3 +147,17 @@ def test_query_bytes_that_are_not_a_number_are_422_problems(query: str, field: s
     assert response.status_code == 422
     assert response.mimetype == "application/problem+json"
     assert field in response.get_json()["errors"]
+
+
+def test_a_failing_counter_does_not_cost_the_answer(monkeypatch: pytest.MonkeyPatch,
+                                                    caplog: pytest.LogCaptureFixture) -> None:
+    app, through_front, _flask_only = _apps()
+
+    def broken(*_args: object) -> None:
+        raise OSError("metrics file not writable")
+
+    monkeypatch.setattr(type(app.extensions["urnbound"].metrics), "observe_request", broken)
+    response = through_front.get("/v1/collisions?bits=64&count=1e6")
+    assert response.status_code == 200
+    assert response.get_json()["collision"]["decimal"]
+    assert "could not count or log" in caplog.text

@@ -19,6 +19,7 @@ The Flask app's own hook observes the requests that reach it, with the same stam
 
 from __future__ import annotations
 
+import logging
 import time
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass, field
@@ -36,6 +37,7 @@ from urnbound.domain.question import Question
 REQUEST_START_KEY = "urnbound.front.start"
 #: WSGI environ key holding the error a question's reply raised in the front.
 REPLY_ERROR_KEY = "urnbound.front.reply_error"
+LOGGER = logging.getLogger("urnbound.front")
 #: Methods a question is replied to in the front (Flask answers OPTIONS and sends 405s).
 REPLIED_METHODS = frozenset({"GET", "HEAD"})
 
@@ -90,10 +92,13 @@ class Front:
         except Exception as error:  # the app's handlers form the problem document
             environ[REPLY_ERROR_KEY] = error
             return self.app(environ, start_response)
-        count_reply(self.state.metrics, question, reply)
-        self.observer.observe(
-            environ, Served(str(method), question.path, question.path, reply.status,
-                            len(reply.body)))
+        try:
+            count_reply(self.state.metrics, question, reply)
+            self.observer.observe(
+                environ, Served(str(method), question.path, question.path, reply.status,
+                                len(reply.body)))
+        except Exception:  # counting must never cost the client its answer
+            LOGGER.exception("could not count or log the reply to %s", question.path)
         start_response(f"{reply.status} {_REASONS[reply.status]}", reply.headers)
         return [] if method == "HEAD" else [reply.body]
 
