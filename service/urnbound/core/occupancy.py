@@ -115,11 +115,28 @@ def occupancy_risk(buckets: int, count: int, rule: Rule, *,
     if cost <= EXACT_MAX_COST:
         return _exact_answer(buckets, count, rule)
     for method in last:  # a bracket may still be the best answer there is
+        if method is _tail_answer and _bracket_loses(buckets, candidates):
+            continue
         found = _attempt(method, buckets, count, rule)
         candidates += [] if found is None else [found]
     if not candidates:
         raise NoConvergence("no method reaches this question within its cost limit")
     return min(candidates, key=lambda answer: answer.relative_error_bound)
+
+
+def _bracket_loses(buckets: int, candidates: list[OccupancyRisk]) -> bool:
+    """The first-order bracket cannot have a smaller bound than the best candidate.
+
+    Its ball spans [S1 - S2max, S1] with S2max = S1**2 (N - 1) / (2 N), so its relative
+    radius is at least S2max / (2 S1) = S1 (N - 1) / (4 N), and S1 >= P(some bucket breaks
+    the rule), which the candidate puts at f (1 - e) or more. Below half of that
+    (a margin for the float f), the bracket would never be chosen: it is not computed.
+    """
+    if not candidates:
+        return False
+    best = min(candidates, key=lambda answer: answer.relative_error_bound)
+    floor = best.fails.value * (1 - best.relative_error_bound) * (buckets - 1) / (8 * buckets)
+    return best.relative_error_bound < floor
 
 
 def _attempt(method: Callable[[int, int, Rule], OccupancyRisk | None], buckets: int,

@@ -3,15 +3,26 @@
 * :func:`smallest_load`: the smallest load k such that the chance of any bucket reaching
   k is at most max_risk (falling in k). Loads up to ceil(n/N) are reached surely
   (pigeonhole) and loads past n never; first guess from the Poisson clumping heuristic
-  1 - exp(-N P(Binomial(n, 1/N) >= k)) = max_risk, solved by bisection in floats.
+  1 - exp(-N P(Binomial(n, 1/N) >= k)) = max_risk, solved by bisection in floats
+  (``occupancy_guesses``), then moved once by the ratio the heuristic misses by at the
+  guess (one engine answer).
 * :func:`fewest_draws`: the smallest n such that every one of N buckets is used at least
   a times with probability at least q, that is P(some bucket used fewer than a times)
   <= 1 - q (falling in n). Below a N draws it fails surely; the top of the range is a
   count at which the union bound N P(Binomial(n, 1/N) < a) is proven below 1 - q,
-  so the range holds the answer. First guess from exp(-N P(Poisson(n/N) < a)) = q.
+  so the range holds the answer. First guess from exp(-N P(Poisson(n/N) < a)) = q,
+  polished by at most ``NEWTON_STEPS`` Newton steps on engine answers.
 
 A comparison uses the engine's answer (decimal text and proven relative bound) as the
-interval; it falls back to exact counts where their cost allows.
+interval; it falls back to exact counts where their cost allows. Every engine answer a
+search computes is kept by index (one search's own memo), so that a guess, the search's
+comparisons and the reported figures never ask the engine twice for the same index.
+Answers at the guess and next to it are asked with the engine's full target (they are
+the likely answer and its neighbour, reported as they are); the others with
+``SEARCH_BOUND``, which any comparison needs at most. A reported figure is an answer
+asked with the full target, or one whose bound already reaches that target: the engine
+tries its methods in the same order under either target, so that answer is the one it
+would give (``_EngineFamily.final``).
 """
 
 from __future__ import annotations
@@ -26,8 +37,19 @@ from mpmath import libmp
 from urnbound.core import balls
 from urnbound.core.balls import precision
 from urnbound.core.errors import DomainError, NoConvergence
-from urnbound.core.occupancy import EXACT_FIRST_COST, EXACT_MAX_COST, occupancy_risk
+from urnbound.core.occupancy import (
+    EXACT_FIRST_COST,
+    EXACT_MAX_COST,
+    TARGET_BOUND,
+    occupancy_risk,
+)
 from urnbound.core.occupancy_exact import allowed_outcomes, exact_cost
+from urnbound.core.occupancy_guesses import (
+    log_expected_at_least,
+    log_expected_below,
+    log_hazard,
+    log_hazard_of,
+)
 from urnbound.core.occupancy_results import AT_LEAST, BELOW, OccupancyRisk, Rule
 from urnbound.core.precision import Real
 from urnbound.core.search import RiskInterval, certified_boundary
@@ -86,9 +108,8 @@ def smallest_load(buckets: int, count: int, max_risk: Fraction) -> LoadAnswer:
     if boundary is None:  # pragma: no cover - load count + 1 has risk 0 and passes
         raise NoConvergence("no load passes, yet none exceeds the count")
     load = boundary.index
-    lower = occupancy_risk(buckets, count, Rule(BELOW, load - 1)) if load > 1 else None
-    return LoadAnswer(buckets, count, max_risk, load,
-                      occupancy_risk(buckets, count, Rule(BELOW, load)), lower)
+    lower = family.final(load - 1) if load > 1 else None
+    return LoadAnswer(buckets, count, max_risk, load, family.final(load), lower)
 
 
 def fewest_draws(buckets: int, at_least: int, target: Fraction) -> DrawsAnswer:
@@ -102,10 +123,9 @@ def fewest_draws(buckets: int, at_least: int, target: Fraction) -> DrawsAnswer:
     boundary = certified_boundary(family, 1 - target)
     if boundary is None:  # pragma: no cover - the top of the range is proven to pass
         raise NoConvergence("no draw count passes, yet the top of the range is proven")
-    rule = Rule(AT_LEAST, at_least)
     draws = boundary.index
-    return DrawsAnswer(buckets, at_least, target, draws, occupancy_risk(buckets, draws, rule),
-                       occupancy_risk(buckets, draws - 1, rule))
+    return DrawsAnswer(buckets, at_least, target, draws, family.final(draws),
+                       family.final(draws - 1))
 
 
 def _check_target(value: Fraction, field: str) -> None:
@@ -130,15 +150,46 @@ def _decimal_real(text: str) -> Real:
 
 
 class _EngineFamily:
-    """What both families share: one engine answer per index, exact where cheap."""
+    """What both families share: one engine answer per index, kept, exact where cheap.
 
-    __slots__ = ()
+    :ivar found: the engine answers computed so far, by index, each with the target it
+        was asked with.
+    :ivar focus: the index the first guess settled on (answers next to it are asked with
+        the full target).
+    """
+
+    __slots__ = ("buckets", "found", "focus")
+
+    def __init__(self, buckets: int) -> None:
+        self.buckets = buckets
+        self.found: dict[int, tuple[OccupancyRisk, float]] = {}
+        self.focus: int | None = None
 
     def _rule(self, index: int) -> Rule:
         raise NotImplementedError
 
-    def _point(self, index: int) -> tuple[int, int]:
+    def _count(self, index: int) -> int:
         raise NotImplementedError
+
+    def answer(self, index: int, target: float) -> OccupancyRisk:
+        """The engine's answer at ``index``: a kept one if there is one, else computed."""
+        kept = self.found.get(index)
+        if kept is not None:
+            return kept[0]
+        found = occupancy_risk(self.buckets, self._count(index), self._rule(index),
+                               target=target)
+        self.found[index] = (found, target)
+        return found
+
+    def final(self, index: int) -> OccupancyRisk:
+        """The answer the engine gives at ``index`` with its full target (module docstring)."""
+        kept = self.found.get(index)
+        if kept is not None and (kept[1] <= TARGET_BOUND
+                                 or kept[0].relative_error_bound <= TARGET_BOUND):
+            return kept[0]
+        found = occupancy_risk(self.buckets, self._count(index), self._rule(index))
+        self.found[index] = (found, TARGET_BOUND)
+        return found
 
     def start_bits(self, index: int) -> int:
         return 64
@@ -146,37 +197,37 @@ class _EngineFamily:
     def interval(self, index: int, bits: int) -> RiskInterval | None:
         if bits > 64:
             return None  # the engine's answer does not sharpen with more bits
-        buckets, count = self._point(index)
-        return _interval(occupancy_risk(buckets, count, self._rule(index),
-                                        target=SEARCH_BOUND))
+        near = self.focus is not None and abs(index - self.focus) <= 1
+        return _interval(self.answer(index, TARGET_BOUND if near else SEARCH_BOUND))
 
     def exact_first(self, index: int) -> bool:
-        buckets, count = self._point(index)
-        return exact_cost(buckets, count, self._rule(index)) <= EXACT_FIRST_COST
+        cost = exact_cost(self.buckets, self._count(index), self._rule(index))
+        return cost <= EXACT_FIRST_COST
 
     def exact_allowed(self, index: int) -> bool:
-        buckets, count = self._point(index)
-        return exact_cost(buckets, count, self._rule(index)) <= EXACT_MAX_COST
+        cost = exact_cost(self.buckets, self._count(index), self._rule(index))
+        return cost <= EXACT_MAX_COST
 
     def exact_at_most(self, index: int, max_risk: Fraction) -> bool:
-        buckets, count = self._point(index)
-        found = allowed_outcomes(buckets, count, self._rule(index))
+        found = allowed_outcomes(self.buckets, self._count(index), self._rule(index))
         return (found.total - found.allowed) * max_risk.denominator <= (
             max_risk.numerator * found.total)
 
 
-@dataclass(frozen=True, slots=True)
 class LoadFamily(_EngineFamily):
     """P(some bucket holds >= k) over loads k = 1 .. n + 1 (falling in k)."""
 
-    buckets: int
-    count: int
+    __slots__ = ("count",)
+
+    def __init__(self, buckets: int, count: int) -> None:
+        super().__init__(buckets)
+        self.count = count
 
     def _rule(self, index: int) -> Rule:
         return Rule(BELOW, index)
 
-    def _point(self, index: int) -> tuple[int, int]:
-        return self.buckets, self.count
+    def _count(self, index: int) -> int:
+        return self.count
 
     @property
     def lowest(self) -> int:
@@ -198,20 +249,19 @@ class LoadFamily(_EngineFamily):
         return None
 
     def first_guess(self, max_risk: Fraction) -> int:
-        hazard = -math.log1p(-float(max_risk)) if max_risk < Fraction(1, 2) else (
-            -math.log(float(1 - max_risk)) if 1 - max_risk > Fraction(1, 10**300) else 690.0)
-        wanted = math.log(max(hazard, 1e-300))
+        wanted = log_hazard_of(max_risk)
         guess = self._solve(wanted)
         if self.known(guess) is not None:
             return guess
-        # One engine answer corrects the heuristic by the ratio it misses by at the guess.
-        answer = occupancy_risk(self.buckets, self.count, Rule(BELOW, guess),
-                                target=SEARCH_BOUND)
-        actual = _log_hazard(answer)
+        # One engine answer corrects the heuristic by the ratio it misses by at the guess;
+        # it is kept (asked with the full target: the guess is usually the answer).
+        self.focus = guess
+        actual = log_hazard(self.answer(guess, TARGET_BOUND))
         if actual is None:
             return guess
-        shift = actual - _log_expected_at_least(self.buckets, self.count, guess)
-        return self._solve(wanted - shift)
+        shift = actual - log_expected_at_least(self.buckets, self.count, guess)
+        self.focus = self._solve(wanted - shift)
+        return self.focus
 
     def _solve(self, wanted: float) -> int:
         """The smallest k whose float estimate ln(N P(>= k)) is at most ``wanted``."""
@@ -220,54 +270,28 @@ class LoadFamily(_EngineFamily):
             if high - low <= 1:
                 break
             middle = (low + high) // 2
-            if _log_expected_at_least(self.buckets, self.count, middle) <= wanted:
+            if log_expected_at_least(self.buckets, self.count, middle) <= wanted:
                 high = middle
             else:
                 low = middle
         return high
 
 
-def _log_hazard(answer: OccupancyRisk) -> float | None:
-    """ln(-ln P(no bucket reaches the load)) from an engine answer."""
-    holds, fails = answer.holds, answer.fails
-    if holds.log10 is None or fails.log10 is None:
-        return None
-    if fails.log10 < -8:  # -ln(1 - r) = r (1 + r/2 + ...)
-        return fails.log10 * math.log(10)
-    return math.log(-holds.log10 * math.log(10))
-
-
-def _log_expected_at_least(buckets: int, count: int, k: int) -> float:
-    """ln(N P(Binomial(n, 1/N) >= k)) in floats: the first term and a geometric tail."""
-    if k > count:
-        return -math.inf
-    if k <= 0:
-        return math.log(buckets)
-    p = 1.0 / buckets
-    log_pmf = (math.lgamma(count + 1) - math.lgamma(k + 1) - math.lgamma(count - k + 1)
-               + k * math.log(p) + (count - k) * math.log1p(-p))
-    ratio = (count - k) * p / ((k + 1) * (1 - p))
-    if ratio > 0.9:  # near the bulk: the normal tail with a continuity correction
-        spread = math.sqrt(count * p * (1 - p))
-        upper = 0.5 * math.erfc((k - 0.5 - count * p) / (spread * math.sqrt(2)))
-        return math.log(buckets) + math.log(max(upper, 1e-300))
-    tail = -math.log1p(-ratio)
-    return math.log(buckets) + min(log_pmf + tail, 0.0)
-
-
-@dataclass(frozen=True, slots=True)
 class CoverFamily(_EngineFamily):
     """P(some bucket used fewer than a times) over draws n = a N .. top (falling in n)."""
 
-    buckets: int
-    level: int
-    top: int
+    __slots__ = ("level", "top")
+
+    def __init__(self, buckets: int, level: int, top: int) -> None:
+        super().__init__(buckets)
+        self.level = level
+        self.top = top
 
     def _rule(self, index: int) -> Rule:
         return Rule(AT_LEAST, self.level)
 
-    def _point(self, index: int) -> tuple[int, int]:
-        return self.buckets, index
+    def _count(self, index: int) -> int:
+        return index
 
     @property
     def lowest(self) -> int:
@@ -285,18 +309,19 @@ class CoverFamily(_EngineFamily):
         return Fraction(1) if index < self.level * self.buckets else None
 
     def first_guess(self, max_risk: Fraction) -> int:
-        wanted = _log_hazard_of_complement(max_risk)
+        wanted = log_hazard_of(max_risk)
         low, high = self.lowest, self.top
         for _ in range(high.bit_length() + 2):
             if high - low <= 1:
                 break
             middle = (low + high) // 2
-            if _log_expected_below(self.buckets, middle, self.level) <= wanted:
+            if log_expected_below(self.buckets, middle, self.level) <= wanted:
                 high = middle
             else:
                 low = middle
-        return self._polished(high, math.log(float(1 - max_risk)) if 1 - max_risk > Fraction(
-            1, 10**300) else -690.0)
+        self.focus = self._polished(high, math.log(float(1 - max_risk)) if (
+            1 - max_risk > Fraction(1, 10**300)) else -690.0)
+        return self.focus
 
     def _polished(self, guess: int, log_target: float) -> int:
         """Newton steps on ln P(covered) with the engine's value and the heuristic's slope.
@@ -308,8 +333,7 @@ class CoverFamily(_EngineFamily):
         for _ in range(NEWTON_STEPS):
             if not self.lowest < count < self.top:
                 return count
-            log10 = occupancy_risk(self.buckets, count, Rule(AT_LEAST, self.level),
-                                   target=SEARCH_BOUND).holds.log10
+            log10 = self.answer(count, SEARCH_BOUND).holds.log10  # kept for the search
             if log10 is None:
                 return count
             mean = count / self.buckets
@@ -319,23 +343,6 @@ class CoverFamily(_EngineFamily):
                 return count
             count = min(max(count + round(step), self.lowest), self.top)
         return count
-
-
-def _log_hazard_of_complement(max_risk: Fraction) -> float:
-    """ln(-ln(1 - max_risk)): the clumping heuristic's target for N P(bucket short)."""
-    if max_risk < Fraction(1, 2):
-        return math.log(max(-math.log1p(-float(max_risk)), 1e-300))
-    rest = 1 - max_risk  # q itself, possibly tiny
-    natural = -math.log(float(rest)) if rest > Fraction(1, 10**300) else 700.0
-    return math.log(natural)
-
-
-def _log_expected_below(buckets: int, count: int, level: int) -> float:
-    """ln(N P(Poisson(n/N) < a)) in floats (an estimate for the first guess)."""
-    mean = count / buckets
-    terms = [j * math.log(mean) - mean - math.lgamma(j + 1) for j in range(level)]
-    top = max(terms)
-    return math.log(buckets) + top + math.log(sum(math.exp(t - top) for t in terms))
 
 
 def _top_draws(buckets: int, level: int, max_risk: Fraction) -> int:

@@ -1,0 +1,110 @@
+"""Float estimates that place the first guesses of the inverse occupancy searches.
+
+Nothing here is certified: a guess decides only where ``core/search.py`` starts, and so
+how many engine answers a search costs, never the answer.
+
+* :func:`log_expected_at_least`: ln(N P(Binomial(n, 1/N) >= k)), the union bound that the
+  clumping heuristic 1 - exp(-N P(>= k)) turns into a risk. In the tail, the term at k
+  and a geometric bound on the rest; near the bulk of the law (first ratio above 0.9),
+  the Lugannani-Rice saddle-point formula with the continuity correction for a lattice
+  law (k - 1/2 in the saddle-point equation and u = 2 sinh(s/2) sqrt(K''(s))), whose
+  relative error there is a small fraction of the step from k to k + 1.
+* :func:`log_expected_below`: ln(N P(Poisson(n/N) < a)), the coverage heuristic.
+* :func:`log_hazard`: ln(-ln P(the rule holds)) from an engine answer, the quantity both
+  heuristics estimate.
+"""
+
+from __future__ import annotations
+
+import math
+from fractions import Fraction
+
+from urnbound.core.occupancy_results import OccupancyRisk
+
+#: First ratio of the binomial tail above which the saddle-point formula is used.
+BULK_RATIO = 0.9
+#: |w| below which the saddle-point formula is replaced by the normal tail (its two last
+#: terms cancel near the mean).
+NEAR_MEAN = 0.05
+
+
+def log_expected_at_least(buckets: int, count: int, k: int) -> float:
+    """ln(N P(Binomial(n, 1/N) >= k)) in floats (module docstring).
+
+    >>> round(log_expected_at_least(365, 23, 2), 2)  # exactly ln(0.6671...) = -0.4048
+    -0.4
+    """
+    if k > count:
+        return -math.inf
+    if k <= 0:
+        return math.log(buckets)
+    p = 1.0 / buckets
+    ratio = (count - k) * p / ((k + 1) * (1 - p))
+    if ratio > BULK_RATIO:
+        return math.log(buckets) + _log_bulk_tail(count, p, k)
+    log_pmf = (math.lgamma(count + 1) - math.lgamma(k + 1) - math.lgamma(count - k + 1)
+               + k * math.log(p) + (count - k) * math.log1p(-p))
+    tail = -math.log1p(-ratio)
+    return math.log(buckets) + min(log_pmf + tail, 0.0)
+
+
+def _log_bulk_tail(count: int, p: float, k: int) -> float:
+    """ln P(Binomial(n, p) >= k) by the continuity-corrected Lugannani-Rice formula.
+
+    K(s) = n ln(1 - p + p e**s); with x = k - 1/2 the saddle point solves K'(s) = x,
+    e**s = x (1 - p) / ((n - x) p), where K(s) = n ln(n (1 - p) / (n - x)) and
+    K''(s) = x (n - x) / n. Then w = sign(s) sqrt(2 (s x - K(s))), u = 2 sinh(s/2)
+    sqrt(K''(s)) and P = Q(w) + phi(w) (1/u - 1/w), Q the standard normal upper tail.
+    """
+    n = float(count)
+    x = k - 0.5
+    mean = n * p
+    spread = math.sqrt(n * p * (1 - p))
+    if x <= 0 or x >= n:
+        return 0.0
+    s = math.log(x * (1 - p) / ((n - x) * p))
+    cumulant = n * math.log(n * (1 - p) / (n - x))
+    w_squared = max(2 * (s * x - cumulant), 0.0)
+    w = math.copysign(math.sqrt(w_squared), s)
+    if abs(w) < NEAR_MEAN:
+        upper = 0.5 * math.erfc((x - mean) / (spread * math.sqrt(2)))
+        return math.log(max(upper, 1e-300))
+    u = 2 * math.sinh(s / 2) * math.sqrt(x * (n - x) / n)
+    density = math.exp(-w_squared / 2) / math.sqrt(2 * math.pi)
+    upper = 0.5 * math.erfc(w / math.sqrt(2)) + density * (1 / u - 1 / w)
+    return math.log(max(upper, 1e-300))
+
+
+def log_expected_below(buckets: int, count: int, level: int) -> float:
+    """ln(N P(Poisson(n/N) < a)) in floats (an estimate for the first guess).
+
+    >>> round(log_expected_below(50, 214, 1), 3)  # ln(50 exp(-4.28))
+    -0.368
+    """
+    mean = count / buckets
+    terms = [j * math.log(mean) - mean - math.lgamma(j + 1) for j in range(level)]
+    top = max(terms)
+    return math.log(buckets) + top + math.log(sum(math.exp(t - top) for t in terms))
+
+
+def log_hazard(answer: OccupancyRisk) -> float | None:
+    """ln(-ln P(the rule holds)) from an engine answer; ``None`` when either side is 0."""
+    holds, fails = answer.holds, answer.fails
+    if holds.log10 is None or fails.log10 is None:
+        return None
+    if fails.log10 < -8:  # -ln(1 - r) = r (1 + r/2 + ...)
+        return fails.log10 * math.log(10)
+    return math.log(-holds.log10 * math.log(10))
+
+
+def log_hazard_of(max_risk: Fraction) -> float:
+    """ln(-ln(1 - max_risk)): the clumping heuristic's target for N P(bucket breaks it).
+
+    >>> round(log_hazard_of(Fraction(1, 2)), 6)  # ln(ln 2)
+    -0.366513
+    """
+    if max_risk < Fraction(1, 2):
+        return math.log(max(-math.log1p(-float(max_risk)), 1e-300))
+    rest = 1 - max_risk  # possibly tiny
+    natural = -math.log(float(rest)) if rest > Fraction(1, 10**300) else 700.0
+    return math.log(natural)
