@@ -97,3 +97,19 @@ def test_fixed_series_declines_past_its_term_limit() -> None:
     with precision(96):
         p = arb(1) / buckets
         assert balls._fixed_ratio_sum(trials - k, k, p / (1 - p)) is None
+
+
+@pytest.mark.parametrize(("top", "base"), [(50, 60), (400, 300), (3_000, 2_990)])
+def test_fixed_series_at_an_irrational_ratio(top: int, base: int) -> None:
+    # rho = sqrt(2) / 3 has no short fraction in its ball: the series runs at its binary
+    # midpoint. Reference: the terms summed by mpmath at 100 digits.
+    rho = WORK.sqrt(2) / 3
+    term, total = WORK.mpf(1), WORK.mpf(1)
+    for j in range(1, top + 1):
+        term *= rho * (top - j + 1) / (base + j)
+        total += term
+    with precision(96):
+        found = balls._fixed_ratio_sum(top, base, arb(2).sqrt() / 3)
+    assert found is not None
+    assert _inside(found, total)
+    assert found.rel_accuracy_bits() >= 80

@@ -24,6 +24,7 @@ import math
 import threading
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
+from fractions import Fraction
 
 from flint import arb, ctx
 from mpmath import libmp
@@ -215,34 +216,32 @@ def _fixed_ratio_sum(top: int, base: int, rho: arb) -> arb | None:
     """1 + sum over i >= 1 of prod_{j <= i} r_j, r_j = rho (top - j + 1) / (base + j).
 
     For rho > 0, top >= 0, base >= 0 and r_1 < 1: the ratios fall with j (and vanish past
-    top), so every term is below the one before it. With the midpoint m of rho (an exact
-    binary fraction) the terms are formed in integers scaled by 2**F, each rounded down:
-    the computed term is below the true one by at most j units (the error of the term
-    before times r_j < 1, plus one), so the first M + 1 terms lose at most M (M + 1) / 2
-    units. Past M the rest is below the M-th term times R / (1 - R), R the next ratio.
-    The radius e of rho scales the i-th term by at most (1 +- e/m)**i, and i <= M; the
-    rest is bounded at m + e. ``None`` when more than MAX_FIXED_TERMS terms would be
-    needed, or rho's ball is too wide for a first ratio below 1.
+    top), so every term is below the one before it. With an exact point m = P / Q of
+    rho's ball (the simplest fraction in it with Q < 2**32 if there is one, as for
+    rho = 1/(N - 1), else its binary midpoint) the terms are formed in integers scaled by
+    2**F, each rounded down: the computed term is below the true one at m by at most j
+    units (the error of the term before times r_j < 1, plus one), so the first M + 1
+    terms lose at most M (M + 1) / 2 units. Past M the rest is below the M-th term times
+    R / (1 - R), R the next ratio. Any rho in the ball is within d = e m of m, which
+    scales the i-th term by at most (1 +- e)**i, i <= M; the rest is bounded at the top
+    of the ball. ``None`` when more than MAX_FIXED_TERMS terms would be needed, or the
+    first ratio at m is not below 1.
 
     >>> with precision(64):  # P(Binomial(3, 1/2) >= 2) = P(= 2) (1 + 1/3) = 3/8 * 4/3
     ...     round(float(_fixed_ratio_sum(1, 2, arb(1)).mid()), 12)
     1.333333333333
     """
-    low = rho.lower()
-    if not low > 0:
+    if not rho.lower() > 0:
         return None
-    parts = rho.mid().man_exp()
-    mantissa: int = int(parts[0])
-    exponent: int = int(parts[1])
+    point, spread = _exact_point(rho)
     prec: int = ctx.prec
     scale = prec + FIXED_GUARD_BITS
-    multiplier, shift = mantissa << max(exponent, 0), max(-exponent, 0)
     term: int = 1 << scale
     total: int = term
-    numerator, denominator = top * multiplier, (base + 1) << shift
-    step_down, step_up = multiplier, 1 << shift
+    step_down, step_up = point.numerator, point.denominator
+    numerator, denominator = top * step_down, (base + 1) * step_up
     if numerator >= denominator:
-        return None  # the first ratio at the midpoint is not below 1
+        return None  # the first ratio at the point is not below 1
     done = 0
     while done < MAX_FIXED_TERMS:
         for _ in range(min(FIXED_CHUNK, MAX_FIXED_TERMS - done)):
@@ -254,27 +253,45 @@ def _fixed_ratio_sum(top: int, base: int, rho: arb) -> arb | None:
             denominator += step_up
             done += 1
         if numerator <= 0:  # the series ended at j = top: nothing is left
-            return _fixed_ball(total, 0, done, scale, rho, None)
+            return _fixed_ball(total, 0, done, scale, spread, None)
         # rest <= (term + done) * R / (1 - R) units, R = numerator / denominator at m
         if (term + done) * numerator << (prec + 16) <= total * (denominator - numerator):
-            return _fixed_ball(total, term + done, done, scale, rho,
-                               arb(top - done) / (base + done + 1))
+            return _fixed_ball(total, term + done, done, scale, spread,
+                               arb(rho.upper()) * (top - done) / (base + done + 1))
     return None
 
 
-def _fixed_ball(total: int, last: int, terms: int, scale: int, rho: arb,
-                next_factor: arb | None) -> arb | None:
+def _exact_point(rho: arb) -> tuple[Fraction, arb]:
+    """An exact point m of the ball (docstring of :func:`_fixed_ratio_sum`) and a ball
+    holding e = max |rho - m| / m over the ball."""
+    low, high = _fraction_of(rho.lower()), _fraction_of(rho.upper())
+    middle = _fraction_of(rho.mid())
+    point = middle.limit_denominator(2**32)
+    if not low <= point <= high:
+        point = middle
+    spread = max(high - point, point - low) / point
+    return point, arb(spread.numerator) / spread.denominator
+
+
+def _fraction_of(x: arb) -> Fraction:
+    """The midpoint of a ball (an end or the midpoint of another: an exact ball) as a
+    fraction."""
+    mantissa, exponent = x.mid().man_exp()
+    value, power = int(mantissa), int(exponent)
+    return Fraction(value << power) if power >= 0 else Fraction(value, 1 << -power)
+
+
+def _fixed_ball(total: int, last: int, terms: int, scale: int, spread: arb,
+                next_ratio: arb | None) -> arb | None:
     """The ball of :func:`_fixed_ratio_sum` from its integer sum (docstring there)."""
     unit = arb(2) ** -scale
-    spread = arb(rho.rad()) / arb(rho.mid())
     grow = (1 + spread) ** terms
     low = arb(total) * unit * (1 - spread) ** terms
     high = arb(total + terms * (terms + 1) // 2) * unit * grow
-    if next_factor is not None:
-        ratio = arb(rho.upper()) * next_factor
-        if not ratio.upper() < 1:
+    if next_ratio is not None:
+        if not next_ratio.upper() < 1:
             return None
-        high += arb(last) * unit * grow * ratio / (1 - ratio)
+        high += arb(last) * unit * grow * next_ratio / (1 - next_ratio)
     return between(arb(low.lower()), arb(high.upper()))
 
 
