@@ -170,3 +170,19 @@ def test_first_order_bracket_skipped_only_where_it_loses(load: int) -> None:
     assert bracket is not None
     assert occupancy._bracket_loses(buckets, [answer])
     assert bracket.relative_error_bound > answer.relative_error_bound
+
+
+@pytest.mark.parametrize(("count", "budget"), [(20_000, Fraction(1, 2)),
+                                               (20_000, Fraction(1, 10**6)),
+                                               (200_000, Fraction(999_999, 10**6))])
+def test_smallest_load_on_two_buckets(count: int, budget: Fraction) -> None:
+    # Two buckets hold X and n - X, X ~ Binomial(n, 1/2); for k > n/2 the events X >= k
+    # and X <= n - k are disjoint, so the risk is exactly 2 P(X >= k) = S1 (DLMF 8.17.8).
+    found = smallest_load(2, count, budget)
+    limit = WORK.mpf(budget.numerator) / budget.denominator
+    assert 2 * found.load > count
+    assert _union_bound(2, count, found.load) <= limit
+    if 2 * (found.load - 1) > count:
+        assert limit < _union_bound(2, count, found.load - 1)
+    else:  # a load of n/2 is reached surely (pigeonhole)
+        assert found.one_lower is not None and found.one_lower.fails.decimal.startswith("1.0")

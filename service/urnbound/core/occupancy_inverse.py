@@ -58,6 +58,8 @@ from urnbound.core.search import RiskInterval, certified_boundary
 MAX_DOUBLINGS = 200
 #: Newton steps that polish the first guess of the fewest draws (each one engine answer).
 NEWTON_STEPS = 2
+#: Engine answers that correct the first guess of the smallest load, at most.
+LOAD_STEPS = 3
 #: The bound an engine answer needs inside a search: a comparison with a budget is settled
 #: by any interval that does not straddle it, and an undecided one falls back to exact.
 SEARCH_BOUND = 2.0**-20
@@ -249,19 +251,39 @@ class LoadFamily(_EngineFamily):
         return None
 
     def first_guess(self, max_risk: Fraction) -> int:
+        """The heuristic's load, then at most ``LOAD_STEPS`` engine answers correcting it.
+
+        The first answer moves the guess by the ratio the heuristic misses by there (its
+        shift in ln of the hazard); later ones by the secant through the last two answers'
+        log-hazards, where the heuristic's slope is off too (few buckets, where the items'
+        fixed total ties the buckets together). The answers are kept for the search; the
+        first is asked with the full target (the guess is usually the answer).
+        """
         wanted = log_hazard_of(max_risk)
         guess = self._solve(wanted)
-        if self.known(guess) is not None:
-            return guess
-        # One engine answer corrects the heuristic by the ratio it misses by at the guess;
-        # it is kept (asked with the full target: the guess is usually the answer).
+        seen: list[tuple[int, float]] = []
+        for step in range(LOAD_STEPS):
+            if self.known(guess) is not None or any(abs(guess - k) <= 1 for k, _ in seen):
+                break
+            self.focus = guess
+            actual = log_hazard(self.answer(guess, TARGET_BOUND if step == 0 else SEARCH_BOUND))
+            if actual is None:
+                break
+            seen.append((guess, actual - wanted))
+            guess = self._next_guess(seen, wanted)
         self.focus = guess
-        actual = log_hazard(self.answer(guess, TARGET_BOUND))
-        if actual is None:
-            return guess
-        shift = actual - log_expected_at_least(self.buckets, self.count, guess)
-        self.focus = self._solve(wanted - shift)
-        return self.focus
+        return guess
+
+    def _next_guess(self, seen: list[tuple[int, float]], wanted: float) -> int:
+        """The shift correction after one answer, the secant after two (see first_guess)."""
+        (last, miss), previous = seen[-1], seen[-2] if len(seen) > 1 else None
+        if previous is None or previous[1] == miss:
+            shift = miss + wanted - log_expected_at_least(self.buckets, self.count, last)
+            return self._solve(wanted - shift)
+        slope = (miss - previous[1]) / (last - previous[0])
+        step = -miss / slope
+        low, high = max(1, -(-self.count // self.buckets)), self.count + 1
+        return min(max(last + round(step), low), high)
 
     def _solve(self, wanted: float) -> int:
         """The smallest k whose float estimate ln(N P(>= k)) is at most ``wanted``."""
