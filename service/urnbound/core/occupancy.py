@@ -297,8 +297,8 @@ def _saddle_answer(buckets: int, count: int, rule: Rule) -> OccupancyRisk | None
         if estimate is None:
             return None
         needed = _bits_for(estimate.log_holds)
-        if needed > bits:  # |ln P| is large: its absolute accuracy needs more bits
-            bits = needed
+        if needed > bits and not _truncation_dominates(estimate.truncation):
+            bits = needed  # |ln P| is large: its absolute accuracy needs more bits
             continue
         with precision(bits):
             value = estimate.log_holds
@@ -310,6 +310,13 @@ def _saddle_answer(buckets: int, count: int, rule: Rule) -> OccupancyRisk | None
             return answer
         bits *= 2
     return None
+
+
+def _truncation_dominates(truncation: arb) -> bool:
+    """The truncation estimate of ln P is at least 2**8 times the absolute accuracy that
+    more bits would give it (2**-START_BITS): the ball cannot get tighter, so the
+    estimate is not formed again at more bits."""
+    return bool(truncation.lower() > 2.0 ** (8 - START_BITS))
 
 
 def _bits_for(log_value: arb) -> int:
