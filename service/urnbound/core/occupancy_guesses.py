@@ -9,7 +9,7 @@ how many engine answers a search costs, never the answer.
   the Lugannani-Rice saddle-point formula with the continuity correction for a lattice
   law (k - 1/2 in the saddle-point equation and u = 2 sinh(s/2) sqrt(K''(s))), whose
   relative error there is a small fraction of the step from k to k + 1.
-* :func:`log_expected_below`: ln(N P(Poisson(n/N) < a)), the coverage heuristic.
+* :func:`log_expected_below`: ln(N P(Binomial(n, 1/N) < a)), the coverage heuristic.
 * :func:`log_hazard`: ln(-ln P(the rule holds)) from an engine answer, the quantity both
   heuristics estimate.
 """
@@ -21,6 +21,8 @@ from fractions import Fraction
 
 from urnbound.core.occupancy_results import OccupancyRisk
 
+#: Counts from which ln(n!/m!) is formed by Stirling's series (``log_choose``).
+STIRLING_FROM = 10**6
 #: First ratio of the binomial tail above which the saddle-point formula is used.
 BULK_RATIO = 0.9
 #: |w| below which the saddle-point formula is replaced by the normal tail (its two last
@@ -42,8 +44,7 @@ def log_expected_at_least(buckets: int, count: int, k: int) -> float:
     ratio = (count - k) * p / ((k + 1) * (1 - p))
     if ratio > BULK_RATIO:
         return math.log(buckets) + _log_bulk_tail(count, p, k)
-    log_pmf = (math.lgamma(count + 1) - math.lgamma(k + 1) - math.lgamma(count - k + 1)
-               + k * math.log(p) + (count - k) * math.log1p(-p))
+    log_pmf = log_binomial_pmf(count, p, k)
     tail = -math.log1p(-ratio)
     return math.log(buckets) + min(log_pmf + tail, 0.0)
 
@@ -76,15 +77,52 @@ def _log_bulk_tail(count: int, p: float, k: int) -> float:
 
 
 def log_expected_below(buckets: int, count: int, level: int) -> float:
-    """ln(N P(Poisson(n/N) < a)) in floats (an estimate for the first guess).
+    """ln(N P(Binomial(n, 1/N) < a)) in floats: the term at a - 1 by log-gamma, the
+    others by the ratios of successive terms (an estimate for the first guess).
 
-    >>> round(log_expected_below(50, 214, 1), 3)  # ln(50 exp(-4.28))
-    -0.368
+    >>> round(log_expected_below(50, 214, 1), 3)  # ln(50 (49/50)**214)
+    -0.411
     """
-    mean = count / buckets
-    terms = [j * math.log(mean) - mean - math.lgamma(j + 1) for j in range(level)]
-    top = max(terms)
-    return math.log(buckets) + top + math.log(sum(math.exp(t - top) for t in terms))
+    top = min(level - 1, count)
+    if top < 0:
+        return -math.inf
+    return math.log(buckets) + log_binomial_pmf(count, 1.0 / buckets, top) + math.log(
+        _downward_sum(count, 1.0 / buckets, top))
+
+
+def log_binomial_pmf(count: int, p: float, j: int) -> float:
+    """ln P(Binomial(n, p) = j) in floats, for 0 <= j <= n.
+
+    >>> round(log_binomial_pmf(10**15, 1e-12, 1000), 6)  # mpmath: -4.3728995060258
+    -4.3729
+    """
+    return log_choose(count, j) + j * math.log(p) + (count - j) * math.log1p(-p)
+
+
+def log_choose(count: int, j: int) -> float:
+    """ln C(n, j) in floats. For n - j >= STIRLING_FROM the two large log-gammas are not
+    subtracted (each near n ln n, their difference would lose n ln n 2**-53): with
+    m = n - j and L = log1p(-j/n), Stirling's series gives
+    ln(n! / m!) = j ln n - (m + 1/2) L - j + 1/(12 n) - 1/(12 m) + O(1/m**3)."""
+    rest = count - j
+    if rest < STIRLING_FROM:
+        return math.lgamma(count + 1) - math.lgamma(j + 1) - math.lgamma(rest + 1)
+    shrink = math.log1p(-j / count)
+    falling = (j * math.log(count) - (rest + 0.5) * shrink - j
+               + 1 / (12 * count) - 1 / (12 * rest))
+    return falling - math.lgamma(j + 1)
+
+
+def _downward_sum(count: int, p: float, top: int) -> float:
+    """1 + sum over j < top of P(= j) / P(= top), by the ratios j q / ((n - j + 1) p)."""
+    total, term = 1.0, 1.0
+    ratio_scale = (1 - p) / p
+    for j in range(top, 0, -1):
+        term *= j * ratio_scale / (count - j + 1)
+        total += term
+        if term < 1e-17 * total:
+            break
+    return total
 
 
 def log_hazard(answer: OccupancyRisk) -> float | None:

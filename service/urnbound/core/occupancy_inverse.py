@@ -10,7 +10,7 @@
   a times with probability at least q, that is P(some bucket used fewer than a times)
   <= 1 - q (falling in n). Below a N draws it fails surely; the top of the range is a
   count at which the union bound N P(Binomial(n, 1/N) < a) is proven below 1 - q,
-  so the range holds the answer. First guess from exp(-N P(Poisson(n/N) < a)) = q,
+  so the range holds the answer. First guess from exp(-N P(Binomial(n, 1/N) < a)) = q,
   polished by at most ``NEWTON_STEPS`` Newton steps on engine answers.
 
 A comparison uses the engine's answer (decimal text and proven relative bound) as the
@@ -45,6 +45,7 @@ from urnbound.core.occupancy import (
 )
 from urnbound.core.occupancy_exact import allowed_outcomes, exact_cost
 from urnbound.core.occupancy_guesses import (
+    log_binomial_pmf,
     log_expected_at_least,
     log_expected_below,
     log_hazard,
@@ -52,6 +53,7 @@ from urnbound.core.occupancy_guesses import (
 )
 from urnbound.core.occupancy_results import AT_LEAST, BELOW, OccupancyRisk, Rule
 from urnbound.core.precision import Real
+from urnbound.core.results import EXACT
 from urnbound.core.search import RiskInterval, certified_boundary
 
 #: Doublings of the draw count while looking for a proven top of the range.
@@ -211,6 +213,10 @@ class _EngineFamily:
         return cost <= EXACT_MAX_COST
 
     def exact_at_most(self, index: int, max_risk: Fraction) -> bool:
+        if self.exact_first(index):  # the engine answers exactly there: its answer is kept
+            kept = self.answer(index, TARGET_BOUND)
+            if kept.method == EXACT and kept.exact is not None:
+                return kept.exact <= max_risk
         found = allowed_outcomes(self.buckets, self._count(index), self._rule(index))
         return (found.total - found.allowed) * max_risk.denominator <= (
             max_risk.numerator * found.total)
@@ -348,7 +354,8 @@ class CoverFamily(_EngineFamily):
     def _polished(self, guess: int, log_target: float) -> int:
         """Newton steps on ln P(covered) with the engine's value and the heuristic's slope.
 
-        d ln P / dn is about P(Poisson(n/N) = a - 1), the slope of -N P(Poisson(n/N) < a);
+        d ln P / dn is about P(Binomial(n - 1, 1/N) = a - 1), the slope of
+        -N P(Binomial(n, 1/N) < a);
         the steps are uncertified (the search proves the answer), at most NEWTON_STEPS.
         """
         count = guess
@@ -358,8 +365,7 @@ class CoverFamily(_EngineFamily):
             log10 = self.answer(count, SEARCH_BOUND).holds.log10  # kept for the search
             if log10 is None:
                 return count
-            mean = count / self.buckets
-            slope = math.exp((self.level - 1) * math.log(mean) - mean - math.lgamma(self.level))
+            slope = math.exp(log_binomial_pmf(count - 1, 1 / self.buckets, self.level - 1))
             step = (log_target - log10 * math.log(10)) / max(slope, 1e-300)
             if abs(step) < 1:
                 return count
