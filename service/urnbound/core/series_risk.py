@@ -42,10 +42,15 @@ S <= 0.51 n, and y |S'| <= n y / (1 - y) <= n / 127.
   under 2**-(PREC + 4). The first term (off by 7u) is 5 / (12 n M) <= 1/4000 of |L|, the
   others (off by (2k + 6) u of M**-k each, k = 2j - 1 >= 3) and the J - 1 additions below
   u/60 of |L| together: D is off by under u/8 of |L|.
-* m and D are both negative, so their sum, rounded once, is off by (7.7K + 15.5) u of |L|.
+* m and D are both negative, so their sum, rounded once, is off by (7.7K + 15.5) u of |L|
+  (``series_pairs`` states it as (8K + 16) u, the bound of L from which it forms exp(L)).
 * d ln(-expm1(L)) / dL = 1 / (e**|L| - 1) <= 1 / |L|, so a relative error d in L moves the
   risk by a factor within exp(d / (1 - d)); expm1 rounds once more. The risk is off by
   e = (8K + 32) u relative, with room for every second-order term.
+
+Nothing above uses the value of PREC beyond u = 2**-PREC <= 2**-128, and K and J formed for
+it: a batch at p >= 128 bits (``RiskBatch(..., prec=p)``, K and J from ``horner_terms`` and
+``stirling_terms`` at p) has the bound (8K + 32) 2**-p. Budgets run at PREC.
 
 The float of a risk r computed as v is decided as ``reporting.interval_float`` decides it:
 r lies in [v (1 - e), v (1 + e (1 + 2e))], both ends rounded outwards; when both round to
@@ -137,8 +142,8 @@ def _in_regime(size: int, count: int, exact_digit_limit: int) -> bool:
             and choose_method(size, count, exact_digit_limit) == ASYMPTOTIC)
 
 
-def horner_terms(size: int, largest: int) -> int:
-    """K: the least number of terms with y**K <= 2**-(PREC + TAIL_BITS), at least 2.
+def horner_terms(size: int, largest: int, prec: int = PREC) -> int:
+    """K: the least number of terms with y**K <= 2**-(prec + TAIL_BITS), at least 2.
 
     y < 2**-g for every count up to ``largest``, g from the bit lengths (and g >= 7).
 
@@ -146,13 +151,13 @@ def horner_terms(size: int, largest: int) -> int:
     (4, 2)
     """
     gap = max(7, size.bit_length() - largest.bit_length() - 1)
-    return max(2, -(-(PREC + TAIL_BITS) // gap))
+    return max(2, -(-(prec + TAIL_BITS) // gap))
 
 
-def stirling_terms(size: int) -> int | None:
+def stirling_terms(size: int, prec: int = PREC) -> int | None:
     """J: the least number of Stirling terms of D whose remainder is negligible, or ``None``.
 
-    1.48 |c_(J+1)| N**-2J <= 2**-(PREC + TAIL_BITS), with N >= 2**(b-1), checked in integers.
+    1.48 |c_(J+1)| N**-2J <= 2**-(prec + TAIL_BITS), with N >= 2**(b-1), checked in integers.
 
     >>> stirling_terms(2**64), stirling_terms(62**8), stirling_terms(1024)
     (1, 2, 7)
@@ -160,7 +165,7 @@ def stirling_terms(size: int) -> int | None:
     low_bits = size.bit_length() - 1
     for terms in range(1, MAX_STIRLING_TERMS + 1):
         following = stirling_coefficient(terms + 1)
-        if (148 * abs(following.numerator) << (PREC + TAIL_BITS)
+        if (148 * abs(following.numerator) << (prec + TAIL_BITS)
                 <= 100 * following.denominator << (2 * terms * low_bits)):
             return terms
     return None
@@ -172,9 +177,9 @@ def stirling_coefficient(j: int) -> Fraction:
     return Fraction(int(numerator), int(denominator) * 2 * j * (2 * j - 1))
 
 
-def risk_bound(terms: int) -> Fraction:
-    """e = (8K + 32) 2**-PREC, the relative bound of every risk of a batch of K terms."""
-    return Fraction(8 * terms + 32, 2**PREC)
+def risk_bound(terms: int, prec: int = PREC) -> Fraction:
+    """e = (8K + 32) 2**-prec, the relative bound of every risk of a batch of K terms."""
+    return Fraction(8 * terms + 32, 2**prec)
 
 
 def _batch(size: int, counts: Iterable[int]) -> dict[int, SeriesRisk]:
@@ -193,8 +198,8 @@ def _batch(size: int, counts: Iterable[int]) -> dict[int, SeriesRisk]:
     return found
 
 
-def _context(round_mode: int) -> gmpy2.context:
-    return gmpy2.context(precision=PREC, round=round_mode, emin=gmpy2.get_emin_min(),
+def _context(round_mode: int, prec: int = PREC) -> gmpy2.context:
+    return gmpy2.context(precision=prec, round=round_mode, emin=gmpy2.get_emin_min(),
                          emax=gmpy2.get_emax_max())
 
 
@@ -203,11 +208,13 @@ class RiskBatch:
 
     :param terms: K, Horner terms (``horner_terms`` of the largest count).
     :param stirling: J, Stirling terms (``stirling_terms``).
+    :param prec: the working precision (u = 2**-prec; K and J formed for it).
     """
 
-    def __init__(self, size: int, terms: int, stirling: int) -> None:
-        self.ctx = ctx = _context(gmpy2.RoundToNearest)
-        self.down, self.up = _context(gmpy2.RoundDown), _context(gmpy2.RoundUp)
+    def __init__(self, size: int, terms: int, stirling: int, prec: int = PREC) -> None:
+        self.prec = prec
+        self.ctx = ctx = _context(gmpy2.RoundToNearest, prec)
+        self.down, self.up = _context(gmpy2.RoundDown, prec), _context(gmpy2.RoundUp, prec)
         self.double = gmpy2.ieee(64)  # round to nearest, subnormals as float64 has them
         self.zero, self.half = gmpy2.mpfr(0), gmpy2.mpfr(0.5)
         self.size = size
@@ -221,7 +228,7 @@ class RiskBatch:
             (ctx.add(gmpy2.mpq(c.numerator, c.denominator), self.zero),
              ctx.pow(self.big, 1 - 2 * j), 2 * j - 1)
             for j in range(2, stirling + 1) for c in (stirling_coefficient(j),))
-        self.bound = bound = risk_bound(terms)
+        self.bound = bound = risk_bound(terms, prec)
         self.shrink = self.down.sub(1, gmpy2.mpq(bound.numerator, bound.denominator))
         stretch = bound * (1 + 2 * bound)
         self.stretch = self.up.add(1, gmpy2.mpq(stretch.numerator, stretch.denominator))
@@ -229,7 +236,7 @@ class RiskBatch:
             libmp.from_rational(bound.numerator, bound.denominator, 53, libmp.round_ceiling))
 
     def log_no_collision(self, count: int) -> gmpy2.mpfr:
-        """L at ``count`` (module docstring), rounded to nearest at PREC bits.
+        """L at ``count`` (module docstring), rounded to nearest at the batch's bits.
 
         Integers are converted as they enter an operation (each rounded at most once);
         ``fma``/``fms`` round once where the bound allows two roundings.
@@ -262,7 +269,10 @@ class RiskBatch:
 
         Run inside ``with batch.ctx`` (the decimal digits round as the current context).
         """
-        log_no = self.log_no_collision(count)
+        return self.risk_magnitude(self.log_no_collision(count))
+
+    def risk_magnitude(self, log_no: gmpy2.mpfr) -> Magnitude | None:
+        """The risk reported from L, or ``None`` when its float is undecided (as above)."""
         risk = self.risk(log_no)
         value = self.rounded_float(risk)
         if value is None:
@@ -272,8 +282,13 @@ class RiskBatch:
 
     def rounded_float(self, risk: gmpy2.mpfr) -> float | None:
         """The float of the true risk, if every value within the bound rounds to it."""
-        low = self.double.plus(self.down.mul(risk, self.shrink))
-        high = self.double.plus(self.up.mul(risk, self.stretch))
+        return self.bounded_float(risk, self.shrink, self.stretch)
+
+    def bounded_float(self, value: gmpy2.mpfr, shrink: gmpy2.mpfr,
+                      stretch: gmpy2.mpfr) -> float | None:
+        """The float of every real in [value shrink, value stretch], if they share one."""
+        low = self.double.plus(self.down.mul(value, shrink))
+        high = self.double.plus(self.up.mul(value, stretch))
         return float(low) if low == high else None
 
     def log10(self, risk: gmpy2.mpfr, log_no: gmpy2.mpfr, value: float) -> float:
