@@ -146,3 +146,81 @@ def log_hazard_of(max_risk: Fraction) -> float:
     rest = 1 - max_risk  # possibly tiny
     natural = -math.log(float(rest)) if rest > Fraction(1, 10**300) else 700.0
     return math.log(natural)
+
+
+# --- Poisson masses in floats, where the saddle point's ball Newton starts ------------------
+
+#: Ratio below which a Poisson tail is summed term by term from its edge (in floats).
+SERIES_RATIO = 0.9
+#: |w| from which the normal tail in the saddle-point formula is taken in log space.
+LOG_TAIL_FROM = 20.0
+
+
+def log_poisson_pmf(j: int, mean: float) -> float:
+    """ln P(Poisson(mean) = j) in floats."""
+    return j * math.log(mean) - mean - math.lgamma(j + 1)
+
+
+def log_poisson_below(c: int, mean: float) -> float:
+    """ln P(Poisson(mean) <= c) in floats: by its terms from c down where they fall by
+    c / mean <= SERIES_RATIO or less, as 1 minus the upper tail where that one is the
+    short series, else by the continuity-corrected Lugannani-Rice formula.
+
+    >>> round(math.exp(log_poisson_below(2, 1.0)), 12)  # (1 + 1 + 1/2) / e
+    0.919698602929
+    """
+    if c < 0:
+        return -math.inf
+    if c <= SERIES_RATIO * mean:
+        total, term = 1.0, 1.0
+        for j in range(c, 0, -1):
+            term *= j / mean
+            total += term
+            if term < 1e-17 * total:
+                break
+        return log_poisson_pmf(c, mean) + math.log(total)
+    if mean <= SERIES_RATIO * (c + 2):
+        return math.log1p(-math.exp(log_poisson_at_least(c + 1, mean)))
+    upper = _poisson_bulk_upper(c + 1, mean)
+    return math.log1p(-math.exp(upper)) if upper < -1e-300 else -math.inf
+
+
+def log_poisson_at_least(a: int, mean: float) -> float:
+    """ln P(Poisson(mean) >= a) in floats (the mirror of :func:`log_poisson_below`).
+
+    >>> round(math.exp(log_poisson_at_least(3, 1.0)), 12)
+    0.080301397071
+    """
+    if a <= 0:
+        return 0.0
+    if mean <= SERIES_RATIO * (a + 1):
+        total, term = 1.0, 1.0
+        for i in range(1, 100_000):
+            term *= mean / (a + i)
+            total += term
+            if term < 1e-17 * total:
+                break
+        return log_poisson_pmf(a, mean) + math.log(total)
+    if a - 1 <= SERIES_RATIO * mean:
+        return math.log1p(-math.exp(log_poisson_below(a - 1, mean)))
+    return _poisson_bulk_upper(a, mean)
+
+
+def _poisson_bulk_upper(a: int, mean: float) -> float:
+    """ln P(Poisson(mean) >= a) by Lugannani-Rice with x = a - 1/2: s = ln(x / mean),
+    K(s) = x - mean, w = sign(s) sqrt(2 (s x - x + mean)), u = 2 sinh(s/2) sqrt(x),
+    P = Q(w) + phi(w) (1/u - 1/w); past |w| = LOG_TAIL_FROM in log space, with
+    Q(w) / phi(w) = 1/w - 1/w**3 + 3/w**5 - 15/w**7 (the first terms of its series)."""
+    x = a - 0.5
+    s = math.log(x / mean)
+    w_squared = max(2 * (s * x - x + mean), 0.0)
+    w = math.copysign(math.sqrt(w_squared), s)
+    if abs(w) < NEAR_MEAN:
+        return math.log(0.5 * math.erfc((x - mean) / math.sqrt(2 * mean)))
+    u = 2 * math.sinh(s / 2) * math.sqrt(x)
+    log_density = -w_squared / 2 - 0.5 * math.log(2 * math.pi)
+    if w > LOG_TAIL_FROM:
+        ratio = 1 / w - 1 / w**3 + 3 / w**5 - 15 / w**7
+        return log_density + math.log(ratio + 1 / u - 1 / w)
+    upper = 0.5 * math.erfc(w / math.sqrt(2)) + math.exp(log_density) * (1 / u - 1 / w)
+    return math.log(max(upper, 1e-300))

@@ -48,6 +48,7 @@ from dataclasses import dataclass
 from flint import arb, ctx
 
 from urnbound.core import balls
+from urnbound.core import occupancy_guesses as guesses
 from urnbound.core.balls import precision
 from urnbound.core.errors import NoConvergence
 from urnbound.core.occupancy_results import Rule
@@ -115,17 +116,22 @@ def _saddle(mean: arb, rule: Rule, prec: int) -> arb:
 
     d(E X_y)/d(ln y) = sigma**2 > 0, so E X_y rises with y: a bracket in ln y is kept,
     and a step that would leave it bisects instead (or moves by 2 while one side is open).
-    Where the saddle point lies within 2**-NEAR_BITS of ln lambda (the conditioning
-    removes little mass: a tail question, or a full coverage), the first Newton step is
-    taken at ``prec`` bits from ln lambda and the polish goes on from it (``_near_mean``).
+    The search starts from the float model's saddle point (``_float_start``); once a
+    step moves ln y by less than 2**-NEAR_BITS, the point it reaches is good to about the
+    step's square, and the polish goes on from there. Where the saddle point lies within
+    2**-NEAR_BITS of ln lambda (the conditioning removes little mass: a tail question,
+    or a full coverage), the first Newton step is taken at ``prec`` bits from ln lambda
+    and the polish goes on from it (``_near_mean``).
     """
-    near = _near_mean(mean, rule, prec)
-    if near is not None:
-        return near
+    start = _float_start(float(mean.mid()), rule)
+    if abs(start - math.log(float(mean.mid()))) < 2.0**-NEAR_BITS:
+        near = _near_mean(mean, rule, prec)
+        if near is not None:
+            return near
     low: float | None = None
     high: float | None = None
     with precision(64):
-        log_y = float(mean.log().mid())
+        log_y = start
         for _ in range(MAX_NEWTON_STEPS):
             gap, variance = _gap(arb(log_y).exp(), mean, rule)
             if float(gap.mid()) > 0:
@@ -134,14 +140,54 @@ def _saddle(mean: arb, rule: Rule, prec: int) -> arb:
                 low = log_y
             move = float((gap / variance).mid())
             candidate = log_y - move
-            if abs(move) < 2.0**-40:
-                return _polish(arb(candidate), mean, rule, prec)
+            if abs(move) < 2.0**-NEAR_BITS:  # the step leaves about its square (polish)
+                good = min(2 * int(-math.log2(max(abs(move), 2.0**-60))) - 8, FLOAT_BITS)
+                return _polish(arb(candidate), mean, rule, prec, good)
             if low is not None and high is not None and not low < candidate < high:
                 candidate = (low + high) / 2
             elif (low is not None and candidate <= low) or (high is not None and candidate >= high):
                 candidate = log_y + (2.0 if high is None else -2.0)
             log_y = candidate
     raise NoConvergence("the saddle point did not settle")
+
+
+def _float_start(mean: float, rule: Rule) -> float:
+    """ln y where E X_y = lambda in floats: the same bracketed Newton on a float model
+    (the Poisson masses of ``occupancy_guesses``), so that the ball Newton starts within
+    their error (about 1e-9) of the saddle point; ln lambda where floats fail.
+
+    Only where the ball search starts depends on it: every step after it is checked.
+    """
+    s, c = rule.sign, rule.edge
+    low: float | None = None
+    high: float | None = None
+    log_y = math.log(mean)
+    try:
+        for _ in range(MAX_NEWTON_STEPS):
+            y = math.exp(log_y)
+            kept = (guesses.log_poisson_below(c, y) if s < 0
+                    else guesses.log_poisson_at_least(rule.level, y))
+            t = math.exp(guesses.log_poisson_pmf(c, y) - kept)
+            expected = y * (1 + s * t)
+            variance = expected * (1 + s * t * (c - y - s * y * t) / (1 + s * t))
+            if not variance > 0:
+                break
+            if expected > mean:
+                high = log_y
+            else:
+                low = log_y
+            move = (expected - mean) / variance
+            candidate = log_y - move
+            if abs(move) < 2.0**-40:
+                return candidate
+            if low is not None and high is not None and not low < candidate < high:
+                candidate = (low + high) / 2
+            elif (low is not None and candidate <= low) or (high is not None and candidate >= high):
+                candidate = log_y + (2.0 if high is None else -2.0)
+            log_y = candidate
+    except (OverflowError, ValueError, ZeroDivisionError):
+        pass
+    return math.log(mean)
 
 
 def _gap(y: arb, mean: arb, rule: Rule) -> tuple[arb, arb]:
@@ -174,6 +220,9 @@ def _extra_bits(y: arb, rule: Rule) -> int:
 #: is near 1 where the conditioning removes little mass), so the polish starts at
 #: 2 NEAR_BITS - 8 good bits.
 NEAR_BITS = 24
+#: Bits of ln y a float carries (53, less what ln y's size takes): the most a step in
+#: floats is credited with.
+FLOAT_BITS = 45
 
 
 def _near_mean(mean: arb, rule: Rule, prec: int) -> arb | None:
