@@ -129,7 +129,10 @@ def test_one_rate_per_second_is_one_question_with_one_etag(client: FlaskClient) 
     ("bits=64&rate=5&max_risk=1e-6", "horizon", "missing"),
     ("bits=64&rate=5&horizon=P1D&max_risk=1", "max_risk", "up to but not including 1"),
     ("bits=64&rate=5&horizon=P1D&max_risk=1e-6&issued=-4", "issued", "from 0 to 2^8192"),
-    ("format=uuid-v7&rate=5&horizon=P1D&max_risk=1e-6&growth=2", "growth", "steady rate"),
+    ("format=uuid-v7&rate=1e6&horizon=P36500D&max_risk=1e-6&growth=10", "horizon",
+     "give a horizon up to P6925D"),
+    ("format=uuid-v7&rate=1e30&horizon=P1D&max_risk=1e-6&growth=2", "rate",
+     "half the 2^74 values per tick"),
 ])
 def test_bad_input_is_a_problem_naming_the_field_and_range(
     client: FlaskClient, conforms: Conforms, query: str, field: str, phrase: str
@@ -177,3 +180,38 @@ def test_a_time_ordered_layout_accrues_risk_per_tick(client: FlaskClient, confor
     exhausted = body["exhausted_after"]
     assert exhausted["collision_before"]["value"] <= 1e-9 < exhausted["collision"]["value"]
     assert body["capacity"] == exhausted["count_before"]
+
+
+#: uuid-v7 at a million a second now, half as many again each year.
+GROWING_V7 = "format=uuid-v7&rate=1e6&growth=1.5&horizon=P365D&max_risk=1e-9"
+
+
+def test_a_time_ordered_layout_with_growth_integrates_the_rising_rate(
+    client: FlaskClient, conforms: Conforms
+) -> None:
+    response = client.get(f"{PATH}?{GROWING_V7}&points=3")
+    assert response.status_code == 200, response.get_data(as_text=True)
+    conforms(response, PATH)
+    body = response.get_json()
+    assert body["method"] == "tick-model"
+    # leading order: the steady year's 8.3475e-7 times (1.5^2 - 1) / (2 ln 1.5) = 1.5415
+    # for the squared rate's mean over the year (from memory: the tick model's risk is
+    # about rate^2 tau d / (2M) while small)
+    steady = client.get("/v1/collisions?format=uuid-v7&rate=1e6&duration=P365D").get_json()
+    ratio = body["at_horizon"]["collision"]["value"] / steady["collision"]["value"]
+    assert ratio == pytest.approx((1.5**2 - 1) / (2 * 0.4054651081081644), rel=1e-6, abs=0)
+    # the count: 1e6 Y (1.5 - 1) / ln 1.5 (issue 9's closed form; ln 1.5 from memory)
+    assert int(body["at_horizon"]["count"]) == pytest.approx(
+        1e6 * 31_536_000 * 0.5 / 0.4054651081081644, rel=1e-12, abs=0)
+    exhausted = body["exhausted_after"]
+    assert exhausted["collision_before"]["value"] <= 1e-9 < exhausted["collision"]["value"]
+    assert body["capacity"] == exhausted["count_before"]
+
+
+def test_cli_answers_growth_for_a_time_ordered_layout(client: FlaskClient) -> None:
+    argv = ["budgets", "--format", "uuid-v7", "--rate", "1e6", "--growth", "1.5",
+            "--horizon", "P365D", "--max-risk", "1e-9", "--points", "3", "--json"]
+    result = CliRunner().invoke(build_cli(), argv)
+    assert result.exit_code == 0, result.output
+    body = client.get(f"{PATH}?{GROWING_V7}&points=3").get_data(as_text=True)
+    assert result.output.strip() == body

@@ -13,7 +13,6 @@ import mpmath
 import pytest
 from tests.core._reference import ln_of_text
 
-from urnbound.core.errors import DomainError
 from urnbound.core.projection import IssueSchedule
 from urnbound.core.tick_budgets import project_tick_budget
 
@@ -77,13 +76,6 @@ def test_a_horizon_ending_first_still_gives_the_capacity() -> None:
     capacity = projection.capacity.count
     assert capacity == pytest.approx(1000 * 1e-9 * 2 * 2**74 / (1000**2 * 1e-3),
                                      rel=1e-6, abs=0)
-
-
-def test_growth_is_refused_for_time_ordered_layouts() -> None:
-    with pytest.raises(DomainError) as caught:
-        project_tick_budget(74, MS, IssueSchedule(0, Fraction(5), Fraction(2)),
-                            Fraction(86_400), Fraction(1, 10**9), 2)
-    assert caught.value.field == "growth"
 
 
 def test_a_past_too_long_for_a_float_is_already_over() -> None:

@@ -56,6 +56,7 @@ from urnbound.core.series_risk import SeriesRisk, series_risks
 
 if TYPE_CHECKING:
     from urnbound.core.tick_budgets import TickCapacity
+    from urnbound.core.tick_growth import GrowingTickRisk
     from urnbound.core.ticks import TickRisk
 
 #: Doublings of the precision of one count enclosure before giving up.
@@ -67,8 +68,8 @@ WIDENING_BITS = 6
 
 Interval = tuple[Real, Real]
 #: The risk at a moment: pairwise (alone, or one of a series' batch), or the tick model's
-#: for a time-ordered layout.
-PointRisk = Union[CollisionRisk, SeriesRisk, "TickRisk"]
+#: for a time-ordered layout (at a steady or a growing rate).
+PointRisk = Union[CollisionRisk, SeriesRisk, "TickRisk", "GrowingTickRisk"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -398,7 +399,7 @@ def project_budget(
 
     capacity = largest_count(size, max_risk, exact_digit_limit=exact_digit_limit)
     moments = series_moments(horizon, points)
-    counts = _series_counts(schedule, start, moments, bits)
+    counts = series_counts(schedule, start, moments, bits)
     risks: dict[int, PointRisk] = dict(zip(
         counts, series_risks(size, counts, exact_digit_limit=point_limit), strict=True))
 
@@ -423,8 +424,8 @@ def project_budget(
     )
 
 
-def _series_counts(schedule: IssueSchedule, start: Fraction, moments: Sequence[Fraction],
-                   bits: int | None) -> list[int]:
+def series_counts(schedule: IssueSchedule, start: Fraction, moments: Sequence[Fraction],
+                  bits: int | None) -> list[int]:
     """n(start + t) at each moment: with growth, one MPFR batch (``growth_counts``) first."""
     times = [start + t for t in moments] if start else list(moments)
     if bits is None:
