@@ -271,19 +271,39 @@ def _estimate(buckets: int, count: int, rule: Rule, mean: arb, y: arb,
 def _estimate_at(buckets: int, count: int, rule: Rule, mean: arb, y: arb,
                  prec: int) -> SaddleEstimate | None:
     s = rule.sign
-    with precision(_corrections_bits(y, rule, prec)):  # one evaluation serves both
-        removed, kept, t = _parts(y, rule)
-    ratio = _spread_ratio(y, t, rule)
-    spread = buckets * mean * (1 + ratio)
-    if spread.upper() < MIN_SPREAD or not spread.lower() > MIN_SPREAD:
-        return None
+    full = _corrections_bits(y, rule, prec)
+    for bits in sorted({min(full, _first_corrections_bits(y, rule, prec)), full}):
+        with precision(bits):  # one evaluation of the masses serves both parts
+            removed, kept, t = _parts(y, rule)
+        ratio = _spread_ratio(y, t, rule)
+        spread = buckets * mean * (1 + ratio)
+        if spread.upper() < MIN_SPREAD or not spread.lower() > MIN_SPREAD:
+            return None
+        corrections, truncation = _corrections(buckets, count, y, t, rule, spread, bits)
+        if _rounding_is_negligible(corrections, truncation):
+            break
     u = -s * t / (1 + s * t)
     entropy = mean * _u_minus_log1p(u)
     log_kept = (-removed).log1p() if removed.mid() < 0.5 else kept.log()
     divergence = buckets * (entropy + log_kept)
-    corrections, truncation = _corrections(buckets, count, y, t, rule, spread, prec)
     value = divergence - ratio.log1p() / 2 + corrections
     return SaddleEstimate(balls.widened(value, truncation), truncation, spread, prec)
+
+
+def _first_corrections_bits(y: arb, rule: Rule, prec: int) -> int:
+    """The corrections are first formed with half the cancellation allowance of
+    :func:`_corrections_bits`; where their rounding is not negligible beside the
+    truncation estimate (``_rounding_is_negligible``) they are formed again with all of it.
+    """
+    scale = max(int(float(y.mid())) + 1, rule.level + 1).bit_length()
+    return prec + TOP_CUMULANT * scale // 2 + 32
+
+
+def _rounding_is_negligible(corrections: arb, truncation: arb) -> bool:
+    """The corrections' rounding radius, and the truncation estimate's own, are below
+    2**-8 of that estimate: more bits would not narrow the ball by more than that."""
+    floor = truncation.lower() / 256
+    return bool(corrections.rad() <= floor and truncation.rad() <= floor)
 
 
 def _u_minus_log1p(u: arb) -> arb:
@@ -322,12 +342,10 @@ def _exponent(x: arb) -> int:
 
 
 def _corrections(buckets: int, count: int, y: arb, t: arb, rule: Rule, spread: arb,
-                 prec: int) -> tuple[arb, arb]:
-    """(G_1 + 1/(12n)) + G_2 + (G_3 - 1/(360 n**3)), and the truncation estimate.
-
-    ``t`` must carry the bits of :func:`_corrections_bits` (the cumulants cancel them).
-    """
-    with precision(_corrections_bits(y, rule, prec)):
+                 bits: int) -> tuple[arb, arb]:
+    """(G_1 + 1/(12n)) + G_2 + (G_3 - 1/(360 n**3)), and the truncation estimate, at
+    ``bits`` (``t`` carries them: the cumulants cancel many, :func:`_corrections_bits`)."""
+    with precision(bits):
         kappas = _cumulants(y, t, rule)
         variance = kappas[2]
         unit = buckets * variance
