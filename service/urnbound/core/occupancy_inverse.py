@@ -61,7 +61,7 @@ MAX_DOUBLINGS = 200
 #: Newton steps that polish the first guess of the fewest draws (each one engine answer).
 NEWTON_STEPS = 2
 #: Engine answers that correct the first guess of the smallest load, at most.
-LOAD_STEPS = 3
+LOAD_STEPS = 6
 #: The bound an engine answer needs inside a search: a comparison with a budget is settled
 #: by any interval that does not straddle it, and an undecided one falls back to exact.
 SEARCH_BOUND = 2.0**-20
