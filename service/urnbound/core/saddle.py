@@ -154,7 +154,8 @@ def _saddle(mean: arb, rule: Rule, prec: int) -> arb:
 def _float_start(mean: float, rule: Rule) -> float:
     """ln y where E X_y = lambda in floats: the same bracketed Newton on a float model
     (the Poisson masses of ``occupancy_guesses``), so that the ball Newton starts within
-    their error (about 1e-9) of the saddle point; ln lambda where floats fail.
+    their error (about 1e-9) of the saddle point: it stops once a step moves ln y by less
+    than 2**-FLOAT_START_BITS; ln lambda where floats fail.
 
     Only where the ball search starts depends on it: every step after it is checked.
     """
@@ -178,7 +179,7 @@ def _float_start(mean: float, rule: Rule) -> float:
                 low = log_y
             move = (expected - mean) / variance
             candidate = log_y - move
-            if abs(move) < 2.0**-40:
+            if abs(move) < 2.0**-FLOAT_START_BITS:  # floats carry the model no further
                 return candidate
             if low is not None and high is not None and not low < candidate < high:
                 candidate = (low + high) / 2
@@ -187,7 +188,7 @@ def _float_start(mean: float, rule: Rule) -> float:
             log_y = candidate
     except (OverflowError, ValueError, ZeroDivisionError):
         pass
-    return math.log(mean)
+    return math.log(mean)  # no float model: the ball search starts at ln lambda
 
 
 def _gap(y: arb, mean: arb, rule: Rule) -> tuple[arb, arb]:
@@ -220,6 +221,8 @@ def _extra_bits(y: arb, rule: Rule) -> int:
 #: is near 1 where the conditioning removes little mass), so the polish starts at
 #: 2 NEAR_BITS - 8 good bits.
 NEAR_BITS = 24
+#: Steps of the float model stop below 2**-FLOAT_START_BITS (its own error is larger).
+FLOAT_START_BITS = 32
 #: Bits of ln y a float carries (53, less what ln y's size takes): the most a step in
 #: floats is credited with.
 FLOAT_BITS = 45
