@@ -62,6 +62,8 @@ MAX_DOUBLINGS = 200
 NEWTON_STEPS = 2
 #: Engine answers that correct the first guess of the smallest load, at most.
 LOAD_STEPS = 6
+#: A corrected guess this close to the one before is asked with the full target.
+CLOSE_STEP = 8
 #: The bound an engine answer needs inside a search: a comparison with a budget is settled
 #: by any interval that does not straddle it, and an undecided one falls back to exact.
 SEARCH_BOUND = 2.0**-20
@@ -263,7 +265,8 @@ class LoadFamily(_EngineFamily):
         shift in ln of the hazard); later ones by the secant through the last two answers'
         log-hazards, where the heuristic's slope is off too (few buckets, where the items'
         fixed total ties the buckets together). The answers are kept for the search; the
-        first is asked with the full target (the guess is usually the answer).
+        first, and any within ``CLOSE_STEP`` of the one before, are asked with the full
+        target (the guess is then usually the answer or next to it).
         """
         wanted = log_hazard_of(max_risk)
         guess = self._solve(wanted)
@@ -272,7 +275,8 @@ class LoadFamily(_EngineFamily):
             if self.known(guess) is not None or any(abs(guess - k) <= 1 for k, _ in seen):
                 break
             self.focus = guess
-            actual = log_hazard(self.answer(guess, TARGET_BOUND if step == 0 else SEARCH_BOUND))
+            close = step == 0 or abs(guess - seen[-1][0]) <= CLOSE_STEP
+            actual = log_hazard(self.answer(guess, TARGET_BOUND if close else SEARCH_BOUND))
             if actual is None:
                 break
             seen.append((guess, actual - wanted))
