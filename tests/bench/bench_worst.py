@@ -29,6 +29,15 @@ WORST: list[tuple[str, str]] = [
     ("/v1/capacity?bits=8191&max_risk=" + NINES, "a 200-character target next to 1"),
     ("/v1/bits?count=" + str(2**4000) + "&max_risk=" + NINES, "a huge count, the same target"),
     ("/v1/lengths?alphabet=base64&count=1e9&max_risk=0.99999999999999999", "target next to 1"),
+    ("/v1/curves?bits=8192&from=1&to=1e2466&points=500", "500 risks and complements"),
+    ("/v1/curves?bits=8192&from=" + str(2**8100) + "&to=" + str(2**8192) + "&points=500",
+     "500 counts from 2^8100 to N: past the batch's regime"),
+    ("/v1/curves?bits=8192&from=1&to=" + str(2**8192) + "&points=500&spacing=linear",
+     "the same, evenly spaced to N"),
+    ("/v1/curves?bits=64&from=1&to=1e10&points=500", "500 points in the batch's regime"),
+    ("/v1/curves?alphabet=base64&length=22&from=1&to=1e30&points=500", "the same, an alphabet"),
+    ("/v1/curves?size=1023&from=1&to=1023&points=500&spacing=linear",
+     "500 exact risks of the largest space always exact"),
 ]
 
 
