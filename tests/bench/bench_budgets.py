@@ -17,6 +17,8 @@ from timing import median_seconds
 
 from urnbound.api.rendering import Renderer, renderer_for
 from urnbound.core.projection import IssueSchedule, project_budget
+from urnbound.core.tick_budgets import project_tick_budget
+from urnbound.domain.formats import TimeOrderedSpace
 from urnbound.domain.inputs import Inputs
 from urnbound.domain.question import Context, Question
 from urnbound.domain.registry import default_registry
@@ -39,6 +41,12 @@ CASES = (
     ("alphanumeric x 8, growth 2, 500 points",
      {"alphabet": "alphanumeric", "length": "8", "rate": "30", "horizon": "P1000D",
       "max_risk": "1e-6", "points": "500", "growth": "2"}),
+    ("uuid-v7, steady, 500 points",
+     {"format": "uuid-v7", "issued": "1e12", "rate": "1e6", "horizon": "P3650D",
+      "max_risk": "1e-9", "points": "500"}),
+    ("uuid-v7, growth 1.5, 500 points",
+     {"format": "uuid-v7", "issued": "1e12", "rate": "1e6", "horizon": "P3650D",
+      "max_risk": "1e-9", "points": "500", "growth": "1.5"}),
     ("64 bits, steady, 50 points",
      {"bits": "64", "issued": "4e7", "rate": "2e6", "per": "P1D", "horizon": "P730D",
       "max_risk": "1e-3"}),
@@ -51,10 +59,14 @@ def timings(question: Question, inputs: Inputs, renderer: Renderer,
     per = inputs["per"] or Fraction(1)
     schedule = IssueSchedule(inputs["issued"] or 0, inputs["rate"] / per,
                              inputs["growth"] or Fraction(1))
-    size = inputs["space"].size
+    space = inputs["space"]
 
     def core() -> object:
-        return project_budget(size, schedule, inputs["horizon"], inputs["max_risk"],
+        if isinstance(space, TimeOrderedSpace):
+            return project_tick_budget(space.random_bits, space.tick_seconds, schedule,
+                                       inputs["horizon"], inputs["max_risk"],
+                                       inputs["points"] or 50)
+        return project_budget(space.size, schedule, inputs["horizon"], inputs["max_risk"],
                               inputs["points"] or 50)
 
     projection = median_seconds(core, REPEATS) * 1e3

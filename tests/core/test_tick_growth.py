@@ -23,6 +23,7 @@ from urnbound.core.projection import IssueSchedule
 from urnbound.core.results import Magnitude
 from urnbound.core.tick_budgets import TICK_SEARCH_SECONDS, project_tick_budget
 from urnbound.core.tick_growth import GrowingTicks, growing_tick_risk
+from urnbound.core.tick_series import TickBatch, batch_bound, growing_series_risks
 from urnbound.core.ticks import steady_loads, tick_risk
 
 MS = Fraction(1, 1000)
@@ -209,3 +210,33 @@ def test_a_rate_over_half_the_values_per_tick_now_is_refused() -> None:
         project_tick_budget(8, MS, schedule, Fraction(DAY), Fraction(1, 10**9), 2)
     assert caught.value.field == "rate"
     assert "half the 2^8 values per tick" in caught.value.detail
+
+
+@pytest.mark.parametrize(("bits", "tick", "rate", "growth", "issued"), CASES)
+def test_the_series_batch_is_within_its_bound(bits: int, tick: Fraction, rate: Fraction,
+                                              growth: Fraction, issued: int) -> None:
+    ticks = GrowingTicks(bits, tick, rate, growth, Fraction(issued) / rate)
+    last = Fraction(2 * 365 * DAY)
+    if ticks.last_second() < last:
+        last = Fraction(math.floor(ticks.last_second()))
+    moments = [Fraction(0), Fraction(1, 10**9), Fraction(1), last / 7, last / 2, last]
+    found = growing_series_risks(ticks, moments, list(range(len(moments))))
+    assert found[0] is None
+    batch = TickBatch.for_moments(ticks, last)
+    if batch is None:  # u/M too near 1/2 for the batch: every moment is left to the caller
+        assert all(risk is None for risk in found)
+        return
+    assert batch.bound < Fraction(1, 2**100)
+    mp = context()
+    for moment, risk in zip(moments[1:], found[1:], strict=True):
+        assert risk is not None and risk.method == "tick-model"
+        assert risk.relative_error_bound == batch.text_bound
+        assert_reported(mp, risk.collision, reference_risk(mp, ticks, moment)[0])
+
+
+def test_the_batch_bound_grows_with_the_terms_and_the_exponent() -> None:
+    # e = (8 (2K + 6 + 14 max(1, K A)) + 3K + 3) u (1 + 2^-20), by hand for K = 3, A = 2
+    assert batch_bound(3, Fraction(2)) == Fraction(8 * (6 + 6 + 14 * 6) + 12, 2**128) * (
+        1 + Fraction(1, 2**20))
+    assert batch_bound(3, Fraction(1, 10)) == Fraction(8 * (6 + 6 + 14) + 12, 2**128) * (
+        1 + Fraction(1, 2**20))

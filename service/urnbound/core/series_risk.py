@@ -203,73 +203,31 @@ def _context(round_mode: int, prec: int = PREC) -> gmpy2.context:
                          emax=gmpy2.get_emax_max())
 
 
-class RiskBatch:
-    """One batch: its contexts, coefficients, N and bound (made per call, never shared).
+class ReportedBatch:
+    """A batch's contexts and its one relative bound on every risk, and the reporting of a
+    risk from L = ln P(no collision) under that bound (see the module docstring's last
+    paragraph); the batches of pairwise and of tick-model risks derive from it.
 
-    :param terms: K, Horner terms (``horner_terms`` of the largest count).
-    :param stirling: J, Stirling terms (``stirling_terms``).
-    :param prec: the working precision (u = 2**-prec; K and J formed for it).
+    :param bound: e, proven for every risk the batch forms from its L.
+    :param prec: the working precision.
     """
 
-    def __init__(self, size: int, terms: int, stirling: int, prec: int = PREC) -> None:
+    def __init__(self, bound: Fraction, prec: int) -> None:
         self.prec = prec
-        self.ctx = ctx = _context(gmpy2.RoundToNearest, prec)
+        self.ctx = _context(gmpy2.RoundToNearest, prec)
         self.down, self.up = _context(gmpy2.RoundDown, prec), _context(gmpy2.RoundUp, prec)
         self.double = gmpy2.ieee(64)  # round to nearest, subnormals as float64 has them
         self.zero, self.half = gmpy2.mpfr(0), gmpy2.mpfr(0.5)
-        self.size = size
-        self.big = ctx.add(size, self.zero)  # N rounded once
-        self.twelve_big = ctx.mul(self.big, 12)
-        # Horner's rule runs from the highest coefficient down.
-        self.p_coefficients = tuple(ctx.div(1, k * (k - 1)) for k in range(terms + 1, 1, -1))
-        self.q_coefficients = tuple(ctx.div(1, k - 1) for k in range(terms + 1, 1, -1))
-        # (c_j, N**-k rounded, k) for the Stirling terms j = 2 .. J, k = 2j - 1
-        self.stirling = tuple(
-            (ctx.add(gmpy2.mpq(c.numerator, c.denominator), self.zero),
-             ctx.pow(self.big, 1 - 2 * j), 2 * j - 1)
-            for j in range(2, stirling + 1) for c in (stirling_coefficient(j),))
-        self.bound = bound = risk_bound(terms, prec)
+        self.bound = bound
         self.shrink = self.down.sub(1, gmpy2.mpq(bound.numerator, bound.denominator))
         stretch = bound * (1 + 2 * bound)
         self.stretch = self.up.add(1, gmpy2.mpq(stretch.numerator, stretch.denominator))
         self.text_bound = reporting.text_bound(
             libmp.from_rational(bound.numerator, bound.denominator, 53, libmp.round_ceiling))
 
-    def log_no_collision(self, count: int) -> gmpy2.mpfr:
-        """L at ``count`` (module docstring), rounded to nearest at the batch's bits.
-
-        Integers are converted as they enter an operation (each rounded at most once);
-        ``fma``/``fms`` round once where the bound allows two roundings.
-        """
-        ctx = self.ctx
-        x = ctx.div(count, self.big)
-        series = ctx.fms(count, _horner(ctx, self.p_coefficients, x),
-                         ctx.mul(_horner(ctx, self.q_coefficients, x), self.half))
-        rest = self.size - count
-        stirling = ctx.div(count, ctx.mul(self.twelve_big, rest))  # -D, first term
-        if self.stirling:
-            stirling = ctx.sub(stirling, self.higher_stirling(ctx.add(rest, self.zero)))
-        return ctx.minus(ctx.fma(x, series, stirling))
-
-    def higher_stirling(self, rest: gmpy2.mpfr) -> gmpy2.mpfr:
-        """sum_{j=2..J} c_j (N**-k - M**-k), k = 2j - 1."""
-        ctx = self.ctx
-        total = self.zero
-        for coefficient, big_power, power in self.stirling:
-            difference = ctx.sub(big_power, ctx.pow(rest, -power))
-            total = ctx.fma(coefficient, difference, total)
-        return total
-
     def risk(self, log_no: gmpy2.mpfr) -> gmpy2.mpfr:
         """-expm1(L) rounded to nearest: within ``bound`` (relative) of the true risk."""
         return self.ctx.minus(self.ctx.expm1(log_no))
-
-    def magnitude(self, count: int) -> Magnitude | None:
-        """The risk at ``count`` reported, or ``None`` when its float is undecided.
-
-        Run inside ``with batch.ctx`` (the decimal digits round as the current context).
-        """
-        return self.risk_magnitude(self.log_no_collision(count))
 
     def risk_magnitude(self, log_no: gmpy2.mpfr) -> Magnitude | None:
         """The risk reported from L, or ``None`` when its float is undecided (as above)."""
@@ -308,6 +266,62 @@ class RiskBatch:
         if complement < _COMPLEMENT_FLOOR:
             complement = ctx.exp(log_no)
         return math.log1p(-float(complement)) / _LN10 + 0.0
+
+
+class RiskBatch(ReportedBatch):
+    """One batch: its contexts, coefficients, N and bound (made per call, never shared).
+
+    :param terms: K, Horner terms (``horner_terms`` of the largest count).
+    :param stirling: J, Stirling terms (``stirling_terms``).
+    :param prec: the working precision (u = 2**-prec; K and J formed for it).
+    """
+
+    def __init__(self, size: int, terms: int, stirling: int, prec: int = PREC) -> None:
+        super().__init__(risk_bound(terms, prec), prec)
+        ctx = self.ctx
+        self.size = size
+        self.big = ctx.add(size, self.zero)  # N rounded once
+        self.twelve_big = ctx.mul(self.big, 12)
+        # Horner's rule runs from the highest coefficient down.
+        self.p_coefficients = tuple(ctx.div(1, k * (k - 1)) for k in range(terms + 1, 1, -1))
+        self.q_coefficients = tuple(ctx.div(1, k - 1) for k in range(terms + 1, 1, -1))
+        # (c_j, N**-k rounded, k) for the Stirling terms j = 2 .. J, k = 2j - 1
+        self.stirling = tuple(
+            (ctx.add(gmpy2.mpq(c.numerator, c.denominator), self.zero),
+             ctx.pow(self.big, 1 - 2 * j), 2 * j - 1)
+            for j in range(2, stirling + 1) for c in (stirling_coefficient(j),))
+
+    def magnitude(self, count: int) -> Magnitude | None:
+        """The risk at ``count`` reported, or ``None`` when its float is undecided.
+
+        Run inside ``with batch.ctx`` (the decimal digits round as the current context).
+        """
+        return self.risk_magnitude(self.log_no_collision(count))
+
+    def log_no_collision(self, count: int) -> gmpy2.mpfr:
+        """L at ``count`` (module docstring), rounded to nearest at the batch's bits.
+
+        Integers are converted as they enter an operation (each rounded at most once);
+        ``fma``/``fms`` round once where the bound allows two roundings.
+        """
+        ctx = self.ctx
+        x = ctx.div(count, self.big)
+        series = ctx.fms(count, _horner(ctx, self.p_coefficients, x),
+                         ctx.mul(_horner(ctx, self.q_coefficients, x), self.half))
+        rest = self.size - count
+        stirling = ctx.div(count, ctx.mul(self.twelve_big, rest))  # -D, first term
+        if self.stirling:
+            stirling = ctx.sub(stirling, self.higher_stirling(ctx.add(rest, self.zero)))
+        return ctx.minus(ctx.fma(x, series, stirling))
+
+    def higher_stirling(self, rest: gmpy2.mpfr) -> gmpy2.mpfr:
+        """sum_{j=2..J} c_j (N**-k - M**-k), k = 2j - 1."""
+        ctx = self.ctx
+        total = self.zero
+        for coefficient, big_power, power in self.stirling:
+            difference = ctx.sub(big_power, ctx.pow(rest, -power))
+            total = ctx.fma(coefficient, difference, total)
+        return total
 
 
 def _horner(ctx: gmpy2.context, coefficients: tuple[gmpy2.mpfr, ...],

@@ -28,7 +28,7 @@ rate may keep it bounded) gives no moment and a capacity known only from below.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from fractions import Fraction
 
@@ -38,6 +38,7 @@ from urnbound.core.projection import (
     BudgetProjection,
     Exhaustion,
     IssueSchedule,
+    PointRisk,
     ProjectedPoint,
     series_counts,
     series_moments,
@@ -52,6 +53,7 @@ from urnbound.core.tick_growth import (
     over_half_now,
     past_half,
 )
+from urnbound.core.tick_series import growing_series_risks
 from urnbound.core.ticks import TickRisk, steady_loads, tick_interval, tick_risk
 
 #: The last whole second the search looks at (some 32 million years).
@@ -217,8 +219,11 @@ def project_tick_budget(
         random_bits, tick, rate, past, TICK_SEARCH_SECONDS)
     moments = series_moments(horizon, points)
     counts = series_counts(schedule, Fraction(0), moments, bits)
-    series = tuple(ProjectedPoint(t, count, risk_at(t))
-                   for t, count in zip(moments, counts, strict=True))
+    batched: Sequence[PointRisk | None] = (
+        [None] * len(moments) if growing is None
+        else growing_series_risks(growing.ticks, moments, counts))
+    series = tuple(ProjectedPoint(t, count, risk if risk is not None else risk_at(t))
+                   for t, count, risk in zip(moments, counts, batched, strict=True))
     now, at_horizon = series[0], series[-1]
     boundary = certified_boundary(family, max_risk)
     first_over = None if boundary is None else boundary.neighbour
