@@ -17,9 +17,10 @@ and certified otherwise.
 
 A time-ordered layout (``format=uuid-v7``, or ``tick`` + ``random_bits``) accrues risk per
 tick: its risk is the tick model's (see /v1/rates) over the time the identifiers take at
-the rate, the ``issued`` ones taken to have been issued at the same steady rate before now
-(growth is refused there); ``capacity`` is then the count issued by the last second within
-max_risk at that rate.
+the rate, the ``issued`` ones taken to have been issued at the rate in force now before
+now; with growth, the hazard of each tick at the rate of its moment, summed over the ticks
+(the horizon must end before the identifiers per tick reach half the values per tick);
+``capacity`` is then the count issued by the last second within max_risk.
 
 Example: ``GET /v1/budgets?bits=64&issued=4e7&rate=2e6&per=P1D&horizon=P730D&max_risk=1e-3``
 """
