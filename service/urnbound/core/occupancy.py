@@ -120,8 +120,36 @@ def occupancy_risk(buckets: int, count: int, rule: Rule, *,
         found = _attempt(method, buckets, count, rule)
         candidates += [] if found is None else [found]
     if not candidates:
+        _refuse_beyond_digits(buckets, count, rule)
         raise NoConvergence("no method reaches this question within its cost limit")
     return min(candidates, key=lambda answer: answer.relative_error_bound)
+
+
+def _refuse_beyond_digits(buckets: int, count: int, rule: Rule) -> None:
+    """Refuse (DomainError on ``count``) a chance e**L whose digits no method can give.
+
+    Where the saddle-point expansion knows ln P only to an absolute error above 1/2 at
+    the bits that resolve |ln P| (its truncation, not rounding), P = e**L has no correct
+    leading digit: |ln P| is then above some 10**300 and P below 10**-(10**300), while the
+    opposite event is certain to every digit shown. That is a question past the service's
+    range, answered as such rather than as a failure.
+    """
+    try:
+        first = log_holds(buckets, count, rule, START_BITS)
+        if first is None:
+            return
+        estimate = log_holds(buckets, count, rule, _bits_for(first.log_holds))
+    except NoConvergence:
+        return
+    if estimate is None or not estimate.truncation.lower() > 0.5:
+        return
+    with precision(64):
+        log10 = (estimate.log_holds.mid() / arb(10).log()).mid().str(6, radius=False)
+    raise DomainError(
+        f"the chance that every bucket obeys the rule is about 10^({log10}), known to no "
+        f"digit (its logarithm only to within {estimate.truncation.mid().str(2, radius=False)}), "
+        f"while its complement is 1 to every digit shown; ask about fewer items",
+        field="count")
 
 
 def _bracket_loses(buckets: int, candidates: list[OccupancyRisk]) -> bool:
@@ -297,7 +325,8 @@ def _saddle_answer(buckets: int, count: int, rule: Rule) -> OccupancyRisk | None
         if estimate is None:
             return None
         needed = _bits_for(estimate.log_holds)
-        if needed > bits and not _truncation_dominates(estimate.truncation):
+        if needed > bits and not _truncation_dominates(estimate.truncation,
+                                                          estimate.log_holds, bits):
             bits = needed  # |ln P| is large: its absolute accuracy needs more bits
             continue
         with precision(bits):
@@ -312,19 +341,23 @@ def _saddle_answer(buckets: int, count: int, rule: Rule) -> OccupancyRisk | None
     return None
 
 
-def _truncation_dominates(truncation: arb) -> bool:
+def _truncation_dominates(truncation: arb, log_holds: arb, bits: int) -> bool:
     """The truncation estimate of ln P is at least 2**8 times the absolute accuracy that
-    more bits would give it (2**-START_BITS): the ball cannot get tighter, so the
-    estimate is not formed again at more bits."""
-    return bool(truncation.lower() > 2.0 ** (8 - START_BITS))
+    more bits would give it (2**-START_BITS), and far above the rounding of ln P at these
+    ``bits`` (2**(24 - bits) |ln P|), so that it is the expansion's and not the rounding's:
+    the ball cannot get tighter, and the estimate is not formed again at more bits.
+    (At 96 bits and |ln P| near 10**476 the rounding alone is some 10**449.)"""
+    rounding = abs(log_holds.mid()) * arb(2) ** (24 - bits)
+    return bool(truncation.lower() > 2.0 ** (8 - START_BITS)
+                and truncation.lower() > rounding.upper())
 
 
 def _bits_for(log_value: arb) -> int:
     """Working bits that give ln P an absolute accuracy of about 2**-START_BITS."""
-    magnitude = abs(float(log_value.mid()))
-    if not math.isfinite(magnitude) or magnitude < 1:
+    magnitude = abs(log_value.mid())  # a ball: |ln P| may be past the float range
+    if not magnitude >= 1:
         return START_BITS
-    return START_BITS + int(magnitude).bit_length()
+    return START_BITS + int(float(magnitude.log().mid()) / math.log(2)) + 1
 
 
 # --- reporting --------------------------------------------------------------------------------

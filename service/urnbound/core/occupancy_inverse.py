@@ -201,8 +201,13 @@ class _EngineFamily:
         return 64
 
     def interval(self, index: int, bits: int) -> RiskInterval | None:
-        if bits > 64:
-            return None  # the engine's answer does not sharpen with more bits
+        """The engine's answer as an interval: at the first try asked with the search's
+        bound (the full target next to the focus), at the second with the full target;
+        the engine's answer does not sharpen with more bits after that."""
+        if bits > 2 * self.start_bits(index):
+            return None
+        if bits > self.start_bits(index):
+            return _interval(self.final(index))
         near = self.focus is not None and abs(index - self.focus) <= 1
         return _interval(self.answer(index, TARGET_BOUND if near else SEARCH_BOUND))
 

@@ -57,13 +57,22 @@ class TailPlan:
 
     @property
     def first_order_bound(self) -> float:
-        """About S1 / 2, the first-order bracket's relative width."""
-        return math.exp(self.log_first) / 2
+        """About S1 / 2, the first-order bracket's relative width (inf past the float range)."""
+        return _exp_or_inf(self.log_first) / 2
 
     @property
     def second_order_bound(self) -> float:
-        """About S1**2 / 6, the second-order bracket's relative width."""
-        return math.exp(2 * self.log_first) / 6
+        """About S1**2 / 6, the second-order bracket's relative width (inf past the floats)."""
+        return _exp_or_inf(2 * self.log_first) / 6
+
+
+def _exp_or_inf(x: float) -> float:
+    """e**x, or inf where it overflows (S1 far above 1: no bracket is of any use there).
+
+    >>> _exp_or_inf(1e6)
+    inf
+    """
+    return math.exp(x) if x < 709.0 else math.inf
 
 
 def breaking_chance(buckets: int, count: int, rule: Rule) -> arb:

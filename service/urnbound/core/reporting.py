@@ -222,7 +222,21 @@ def _float_far_from_boundary(value: Real, error: Real) -> float | None:
 
 
 def _below(a: int, a_shift: int, b: int, b_shift: int) -> bool:
-    """a * 2**a_shift < b * 2**b_shift, for non-negative integers."""
+    """a * 2**a_shift < b * 2**b_shift, for non-negative integers.
+
+    Decided from the bit lengths when the magnitudes are far apart, so that a shift of
+    millions of bits (an error of 2**-(10**9) next to a value near 1) is never formed.
+
+    >>> _below(1, -10**12, 1, 0), _below(1, 0, 1, -10**12), _below(3, 0, 1, 2)
+    (True, False, True)
+    """
+    if a == 0 or b == 0:
+        return b > 0
+    top_a, top_b = a.bit_length() + a_shift, b.bit_length() + b_shift
+    if top_a < top_b:  # a 2**a_shift < 2**top_a <= 2**(top_b - 1) <= b 2**b_shift
+        return True
+    if top_b < top_a:
+        return False
     if a_shift >= b_shift:
         return (a << (a_shift - b_shift)) < b
     return a < (b << (b_shift - a_shift))

@@ -123,8 +123,9 @@ def _saddle(mean: arb, rule: Rule, prec: int) -> arb:
     or a full coverage), the first Newton step is taken at ``prec`` bits from ln lambda
     and the polish goes on from it (``_near_mean``).
     """
-    start = _float_start(float(mean.mid()), rule)
-    if abs(start - math.log(float(mean.mid()))) < 2.0**-NEAR_BITS:
+    log_mean = float(mean.log().mid())  # (lambda itself may be below the floats)
+    start = _float_start(log_mean, rule)
+    if abs(start - log_mean) < 2.0**-NEAR_BITS:
         near = _near_mean(mean, rule, prec)
         if near is not None:
             return near
@@ -151,7 +152,7 @@ def _saddle(mean: arb, rule: Rule, prec: int) -> arb:
     raise NoConvergence("the saddle point did not settle")
 
 
-def _float_start(mean: float, rule: Rule) -> float:
+def _float_start(log_mean: float, rule: Rule) -> float:
     """ln y where E X_y = lambda in floats: the same bracketed Newton on a float model
     (the Poisson masses of ``occupancy_guesses``), so that the ball Newton starts within
     their error (about 1e-9) of the saddle point: it stops once a step moves ln y by less
@@ -162,7 +163,10 @@ def _float_start(mean: float, rule: Rule) -> float:
     s, c = rule.sign, rule.edge
     low: float | None = None
     high: float | None = None
-    log_y = math.log(mean)
+    mean = math.exp(log_mean) if log_mean < 700 else math.inf
+    if not 0.0 < mean < math.inf:
+        return log_mean  # lambda past the floats: the ball search starts at ln lambda
+    log_y = log_mean
     try:
         for _ in range(MAX_NEWTON_STEPS):
             y = math.exp(log_y)
@@ -188,7 +192,7 @@ def _float_start(mean: float, rule: Rule) -> float:
             log_y = candidate
     except (OverflowError, ValueError, ZeroDivisionError):
         pass
-    return math.log(mean)  # no float model: the ball search starts at ln lambda
+    return log_mean  # no float model: the ball search starts at ln lambda
 
 
 def _gap(y: arb, mean: arb, rule: Rule) -> tuple[arb, arb]:
@@ -238,7 +242,7 @@ def _near_mean(mean: arb, rule: Rule, prec: int) -> arb | None:
         size = abs(float(move.mid()))
         if not size < 2.0**-NEAR_BITS:
             return None
-        if size < 2.0 ** (16 - prec):
+        if size == 0.0 or math.log2(size) < 16 - prec:  # (2.0 ** (16 - prec) underflows)
             return arb(log_y.exp().mid())
         good = max(2 * int(-math.log2(size)) - 8, 40)
         return _polish(arb((log_y - move).mid()), mean, rule, prec, good)
