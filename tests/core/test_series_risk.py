@@ -166,3 +166,15 @@ def test_risks_near_one_take_log10_from_the_complement() -> None:
     assert risk.collision.value == 1.0 and risk.collision.decimal == "1.0000000000000000000e0"
     assert risk.collision.log10 == 0.0
     assert_reported(2**64, risk)
+
+
+def test_log10_of_a_risk_within_a_subnormal_of_one() -> None:
+    # A case hypothesis found: L near -744, so 1 - risk = e**L is about 1e-323 and log10
+    # of the risk is -e**L / ln 10, the smallest subnormal float; forming e**L as a float
+    # first, then dividing, rounded twice and gave 0.0. Reference: mpmath log-gamma at
+    # 4 log2 N + 200 bits (tests/core/_reference.py).
+    size, count = 38_652_988_462_895_802_263_131, 7_584_083_474_129
+    (risk,) = series_risks(size, [count], exact_digit_limit=0)
+    ref = high_precision_risk(size, count)
+    assert risk.collision.log10 == float(ref.ln_risk / ref.mp.ln10) == -5e-324
+    assert_reported(size, risk)

@@ -220,3 +220,17 @@ def test_highest_rate_agrees_with_the_forward_risk_at_its_boundary(bits: int, se
         return -ctx.expm1(-(seconds * 1000) * 2**bits * (x - ctx.log1p(x)))
 
     assert true_risk(rate) <= _mp(ctx, target) < true_risk(rate + 1)
+
+
+def test_expected_duplicates_on_a_float_tie_break_upwards() -> None:
+    # One random bit, 39,825,437.519 identifiers per tick over 226,167,000 ticks (a case
+    # hypothesis found): the duplicates are V + d with V = 226167 * 39825435519, an odd
+    # integer past 2**53 (a tie between two floats), and 0 < d < 2**-(10**7). The true
+    # value rounds up; the reference is Python's correctly rounded rational division.
+    loads = (TickLoad(ticks=Fraction(226_167_000), mean=Fraction(39_825_437_519, 1000)),)
+    answer = tick_risk(1, loads)
+    exact = 226_167 * 39_825_435_519
+    assert exact > 2**53 and exact % 2 == 1
+    assert answer.expected_duplicates.value == float(Fraction(exact) + Fraction(1, 10**100))
+    assert answer.expected_duplicates.decimal == "9.0071992750256730000e15"
+    assert answer.collision.decimal == "1.0000000000000000000e0"

@@ -264,7 +264,11 @@ class ReportedBatch:
         ctx = self.ctx
         complement = ctx.sub(1, risk)
         if complement < _COMPLEMENT_FLOOR:
-            complement = ctx.exp(log_no)
+            # log1p(-q) = -q (1 + q/2 + ...), q = e**L < 2**-40: -q / ln 10 rounded once to
+            # a float, subnormals included (a float q, then a float division, rounded twice
+            # and gave 0 for q near 1e-323).
+            quotient = ctx.div(-ctx.exp(log_no), ctx.log(gmpy2.mpfr(10)))
+            return float(self.double.plus(quotient)) + 0.0
         return math.log1p(-float(complement)) / _LN10 + 0.0
 
 

@@ -245,6 +245,9 @@ def _excess(x: Real, prec: int) -> Real:
 
 def _duplicates(random_bits: int, loads: tuple[TickLoad, ...], target: int) -> Magnitude | None:
     """sum_c ticks_c M (x_c - 1 + e**-x_c), each part within 8u, the sum within 16u."""
+    saturated = _saturated_duplicates(random_bits, loads)
+    if saturated is not None:
+        return saturated
     work = target + GUARD_BITS
     total = mp.ZERO
     for load in loads:
@@ -253,6 +256,38 @@ def _duplicates(random_bits: int, loads: tuple[TickLoad, ...], target: int) -> M
         total = mp.add(total, mp.mul(mp.real(load.ticks, work), part, work), work)
     value = mp.scale2(total, random_bits)
     return reporting.bounded_magnitude(value, libmp.from_man_exp(16, -work))
+
+
+def _saturated_duplicates(random_bits: int, loads: tuple[TickLoad, ...]) -> Magnitude | None:
+    """The expected duplicates V + d when every tick is so full that d is below every gap.
+
+    With M = 2**random_bits, V = sum ticks (mean - M) is rational and d = sum ticks M e**-x
+    (x = mean / M) positive. Every rounding boundary of a float or a 20-digit text near V
+    is a multiple of 2**-a 10**-c with 2**a 10**c dividing D = 2**max(0, 60 - e)
+    10**max(0, 25 - E) (e and E lower bounds of log2 V and log10 V), so a boundary other
+    than V is at least 1 / (q D) away from V = p / q. When d < t = 1 / (2 q D), V + d and
+    V + t round alike, even where V is itself a boundary (a tie only d's sign breaks, which
+    no precision decides: at one value per tick and 4e7 per tick, V is an odd integer next
+    to 2**53). The figure is then V + t, formed exactly. ``None`` when d may be larger.
+    """
+    if any(load.mean <= 2**random_bits for load in loads):
+        return None
+    total = sum((load.ticks * (load.mean - 2**random_bits) for load in loads), Fraction(0))
+    if total <= 0:
+        return None
+    numerator, denominator = total.numerator, total.denominator
+    two = numerator.bit_length() - denominator.bit_length() - 1
+    ten = len(str(numerator)) - len(str(denominator)) - 2
+    gap_denominator = 2 * denominator * 2 ** max(0, 60 - two) * 10 ** max(0, 25 - ten)
+    # d <= ticks M 2**-floor(1.4426 x) (log2 e > 1.4426), summed over the loads.
+    slack_bits = max(
+        math.ceil(load.ticks).bit_length() + random_bits + len(loads).bit_length()
+        - math.floor(Fraction(14426, 10000) * load.mean / 2**random_bits)
+        for load in loads)
+    if slack_bits >= -gap_denominator.bit_length():
+        return None
+    above = total + Fraction(1, gap_denominator)
+    return magnitude_of_fraction(above.numerator, above.denominator)
 
 
 # --- inverse questions -----------------------------------------------------------------------
