@@ -113,3 +113,26 @@ def test_fixed_series_at_an_irrational_ratio(top: int, base: int) -> None:
     assert found is not None
     assert _inside(found, total)
     assert found.rel_accuracy_bits() >= 80
+
+
+@pytest.mark.parametrize(("trials", "buckets", "k"), [
+    (3402, 5, 2),  # a chance within 1e-326 of 1 (loads: some of 5 buckets holds 2)
+    (20_000, 7, 2_800),  # k just below the mean 2,857
+    (94_373, 35, 1),
+])
+def test_upper_tail_far_below_the_mean_is_one_minus_the_left_tail(trials: int, buckets: int,
+                                                                  k: int) -> None:
+    # Reference: the left tail sum_{j<k} C(n, j) (N-1)^(n-j) / N^n, and 1 - it, summed
+    # term by term in mpmath at 2000 bits.
+    ctx = mpmath.MPContext()
+    ctx.prec = 2000
+    left = sum(ctx.binomial(trials, j) * ctx.mpf(buckets - 1) ** (trials - j)
+               for j in range(k)) / ctx.mpf(buckets) ** trials
+    with precision(128):
+        ours = balls.binomial_at_least(trials, arb(1) / buckets, k)
+        below = balls.binomial_below(trials, arb(1) / buckets, k)
+    truth = 1 - left
+    for ball, value in ((ours, truth), (below, left)):
+        mid = ctx.mpf(ball.mid().str(60, radius=False))
+        assert abs(mid - value) <= 2 * ctx.mpf(ball.rad().str(5, radius=False)) + value * 1e-50
+    assert ctx.mpf(ours.rad().str(5, radius=False)) < truth * ctx.mpf(2) ** -100

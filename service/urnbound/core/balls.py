@@ -334,8 +334,12 @@ def poisson_below(a: int, mean: arb) -> arb:
     return mean.gamma_upper(a, regularized=1)
 
 
-def binomial_at_least(trials: int, p: arb, k: int) -> arb:
+def binomial_at_least(trials: int, p: arb, k: int, *, turned: bool = False) -> arb:
     """P(Binomial(trials, p) >= k), full relative accuracy when small.
+
+    Where k lies below the mean, so that the chance is over 1/2, it is 1 - P(< k) from the
+    left tail's series (an absolute error of that small tail is a relative one here), not
+    from the incomplete beta function, which costs up to some 0.3 s there.
 
     >>> with precision(64):
     ...     float(binomial_at_least(3, arb(1) / 2, 2).mid())
@@ -345,6 +349,8 @@ def binomial_at_least(trials: int, p: arb, k: int) -> arb:
         return arb(1)
     if k > trials:
         return arb(0)
+    if not turned and k < trials * p.lower():
+        return 1 - binomial_below(trials, p, k, turned=True)
     q = 1 - p
     first_ratio = (trials - k) * p / ((k + 1) * q)
     if first_ratio.upper() < SERIES_RATIO:
@@ -359,8 +365,11 @@ def binomial_at_least(trials: int, p: arb, k: int) -> arb:
     return p.beta_lower(k, trials - k + 1, regularized=1)
 
 
-def binomial_below(trials: int, p: arb, a: int) -> arb:
+def binomial_below(trials: int, p: arb, a: int, *, turned: bool = False) -> arb:
     """P(Binomial(trials, p) < a), full relative accuracy when small.
+
+    Where a - 1 lies above the mean (the chance over 1/2), it is 1 - P(>= a) from the
+    right tail's series, as :func:`binomial_at_least` turns the other way.
 
     >>> with precision(64):
     ...     float(binomial_below(2, arb(1) / 2, 1).mid())
@@ -370,6 +379,8 @@ def binomial_below(trials: int, p: arb, a: int) -> arb:
         return arb(0)
     if a > trials:
         return arb(1)
+    if not turned and a - 1 > trials * p.upper():
+        return 1 - binomial_at_least(trials, p, a, turned=True)
     q = 1 - p
     top = a - 1
     first_ratio = top * q / ((trials - top + 1) * p)
