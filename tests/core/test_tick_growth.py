@@ -240,3 +240,13 @@ def test_the_batch_bound_grows_with_the_terms_and_the_exponent() -> None:
         1 + Fraction(1, 2**20))
     assert batch_bound(3, Fraction(1, 10)) == Fraction(8 * (6 + 6 + 14) + 12, 2**128) * (
         1 + Fraction(1, 2**20))
+
+
+def test_a_past_too_long_for_a_float_is_already_over_with_growth() -> None:
+    schedule = IssueSchedule(10**2000, Fraction(37, 10), Fraction(2))
+    projection = project_tick_budget(16, Fraction(1), schedule, Fraction(1), Fraction(1, 2), 2)
+    assert projection.exhausted is not None and projection.exhausted.already
+    # the past alone: 10^2000 / 3.7 ticks at a mean of 3.7 over 2^16 values, so the
+    # chance of no collision is about e^-(1e1995): the risk's float is 1
+    assert projection.now.risk.collision.value == 1.0
+    assert projection.at_horizon.risk.collision.value == 1.0

@@ -155,6 +155,8 @@ class GrowingTickSeconds:
                        - 2 * _log2(ticks.rate) - _log2(ticks.tick))  # seconds at rate now
         if log2_steady > 1000:
             return self.last
+        if ticks.past > 2**62:  # a past that long is over any budget the guess can place
+            return 0
         remaining = 2.0**log2_steady - float(ticks.past)
         if remaining <= 0:
             return 0

@@ -161,14 +161,34 @@ def _probabilities(ticks: GrowingTicks, seconds: Fraction, target: int
     """q = exp(-H) and 1 - q with their bounds, or ``None`` when the bound is too wide."""
     if ticks.past + seconds == 0:
         raise DomainError("no identifiers, no risk", field="horizon")  # pragma: no cover
-    a_bits = max(1, math.ceil(abs(_rough_exponent(ticks, seconds)))).bit_length()
-    work = target + GUARD_BITS + a_bits + 8
+    exponent = _rough_exponent(ticks, seconds)
+    a_bits = max(1, math.ceil(abs(exponent))).bit_length()
+    work = target + GUARD_BITS + a_bits + 8 + _hazard_bits(ticks, seconds, exponent)
     summed = _hazard_over_m(ticks, seconds, work)
     if summed is None:
         return None
     total, error = summed
     log_miss = mp.neg(mp.scale2(total, ticks.random_bits))
     return from_log(log_miss, error, target)
+
+
+def _hazard_bits(ticks: GrowingTicks, seconds: Fraction, exponent: float) -> int:
+    """About log2 H, at least 0: exp(-H) needs H to as many bits past the point.
+
+    H <= ((past + t) / tau) u_max min(1, x_max) with u_max = u0 max(1, e**a) (M g(x) <=
+    u min(1, x)); from bit lengths, so that no float overflows.
+    """
+    duration, load = ticks.past + seconds, ticks.rate * ticks.tick
+    rise = max(0.0, exponent) / math.log(2)
+    mean_bits = _bits(load) + rise
+    top = _bits(duration) - _bits(ticks.tick) + mean_bits + min(
+        0.0, mean_bits - ticks.random_bits) + 2
+    return max(0, math.ceil(top))
+
+
+def _bits(value: Fraction) -> int:
+    """An integer within 1 of log2 ``value`` > 0, from bit lengths."""
+    return value.numerator.bit_length() - value.denominator.bit_length()
 
 
 def _rough_exponent(ticks: GrowingTicks, seconds: Fraction) -> float:
