@@ -284,3 +284,17 @@ def test_a_float_midpoint_is_rounded_from_the_exact_value() -> None:
     chance = independent_hit(2**26, 1, 3, exact_digit_limit=0)
     exact = Fraction(2**78 - (2**26 - 1) ** 3 * 2**0, 2**78)
     assert chance.exact == exact and chance.hit.value == float(exact)
+
+
+def test_a_hit_chance_next_to_a_float_midpoint_is_rounded_down() -> None:
+    # A case hypothesis found: N = 2**576, L = 94,906,267 live, G = 94,906,265 guesses.
+    # L G is an odd integer just above 2**53, so L G / N lies on a midpoint between two
+    # floats, and the chance is below it by about (L + G) / (2N) of it (Bonferroni:
+    # L G / N - C(G, 2) (L / N)**2 <= hit <= L G / N for independent guesses, and the same
+    # order for distinct ones): the true float is the lower neighbour, (L G - 1) / N.
+    size, live, guesses = 2**576, 94_906_267, 94_906_265
+    product = live * guesses
+    assert product > 2**53 and product % 2 == 1
+    expected = float(Fraction(product - 1, size))  # exact: an even integer over 2**576
+    for compute in (distinct_hit, independent_hit):
+        assert compute(size, live, guesses, exact_digit_limit=0).hit.value == expected

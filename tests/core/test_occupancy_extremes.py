@@ -14,6 +14,7 @@ incomplete gamma function (the Poisson tail), taken from mpmath at high precisio
 
 from __future__ import annotations
 
+import math
 from fractions import Fraction
 
 import mpmath
@@ -63,3 +64,21 @@ def test_fewest_draws_for_a_target_next_to_one_is_proven_on_both_sides() -> None
     at = occupancy_risk(967_500_399, answer.draws, Rule(AT_LEAST, 2))
     before = occupancy_risk(967_500_399, answer.draws - 1, Rule(AT_LEAST, 2))
     assert Fraction(at.holds.decimal) >= target > Fraction(before.holds.decimal)
+
+
+@pytest.mark.parametrize(("count", "rule"), [
+    (3000, Rule(AT_LEAST, 755)), (3000, Rule(AT_LEAST, 1450)), (1766, Rule(AT_LEAST, 755)),
+    (5000, Rule(BELOW, 2600)), (5000, Rule(BELOW, 2501)), (4001, Rule(BELOW, 3990)),
+    (20_000, Rule(AT_LEAST, 3)), (5000, Rule(BELOW, 4990)),  # wide windows: 1 - fails
+])
+def test_two_buckets_against_exact_binomial_sums(count: int, rule: Rule) -> None:
+    # Two buckets: the first holds Binomial(n, 1/2) items, the rule asks lo <= X <= n - lo;
+    # the two tails outside, 2 sum_{j<lo} C(n, j) / 2^n, summed exactly in Python integers.
+    lo = count - rule.level + 1 if rule.kind == BELOW else rule.level
+    holds = 1 - Fraction(2 * sum(math.comb(count, j) for j in range(lo)), 2**count)
+    answer = occupancy_risk(2, count, rule)
+    assert answer.method in ("two-bucket binomial", "exact")  # exact where it is cheap
+    for figure, true in ((answer.holds, holds), (answer.fails, 1 - holds)):
+        error = abs(Fraction(figure.decimal) - true) / true
+        assert error <= max(answer.relative_error_bound, 5e-20)  # exact: 20-digit rounding
+        assert figure.value == float(true)  # Python's correctly rounded rational division

@@ -48,6 +48,7 @@ from urnbound.core.errors import DomainError, NoConvergence
 from urnbound.core.exact import falling_factorial, magnitude_of_fraction
 from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, MAX_FRACTION_DIGITS
 from urnbound.core.logprob import from_log
+from urnbound.core.pairwise import WIDEST_BITS
 from urnbound.core.precision import Real
 from urnbound.core.results import ASYMPTOTIC, EXACT, Magnitude, Method
 from urnbound.core.search import RiskInterval, interval_verdict
@@ -233,6 +234,14 @@ def _chance(kind: str, size: int, live: int, guesses: int, limit: int) -> HitCha
     # power of two the chances are binary fractions): exact, when affordable.
     if cost <= max(limit, EXACT_DIGITS):
         return _exact_of(kind, size, live, guesses)
+    # Last resort, as for the pairwise risk: a chance within some 2**-500 of a float
+    # midpoint (L G an odd integer next to 2**53 over a power of two, less a term near
+    # (L + G) / N of it), up to WIDEST_BITS, which bounds the cost.
+    last = TARGET_BITS << (ROUNDING_TRIES - 1)
+    answer = mp.first_decided(lambda bits: _reported(kind, size, live, guesses, bits),
+                              2 * last, WIDEST_BITS)
+    if answer is not None:
+        return answer
     raise NoConvergence("the hit chance lies too close to a rounding boundary")
 
 

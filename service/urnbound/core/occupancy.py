@@ -51,6 +51,7 @@ from urnbound.core.occupancy_results import (
     RECURRENCE,
     SADDLE_POINT,
     SECOND_ORDER_INCLUSION_EXCLUSION,
+    TWO_BUCKET_BINOMIAL,
     OccupancyRisk,
     Rule,
 )
@@ -99,6 +100,10 @@ def occupancy_risk(buckets: int, count: int, rule: Rule, *,
     cost = exact_cost(buckets, count, rule)
     if cost <= EXACT_FIRST_COST:
         return _exact_answer(buckets, count, rule)
+    if buckets == 2:
+        two = _two_bucket_answer(count, rule)
+        if two is not None:
+            return two
     candidates: list[OccupancyRisk] = []
     steps = _recurrence_steps(buckets, count, rule)
     cheap = steps is not None and steps <= CHEAP_STEPS
@@ -150,6 +155,47 @@ def _refuse_beyond_digits(buckets: int, count: int, rule: Rule) -> None:
         f"digit (its logarithm only to within {estimate.truncation.mid().str(2, radius=False)}), "
         f"while its complement is 1 to every digit shown; ask about fewer items",
         field="count")
+
+
+#: Most terms summed directly for a two-bucket window; wider windows take 1 - 2 P(X < lo).
+TWO_BUCKET_WINDOW = 4_096
+
+
+def _two_bucket_answer(count: int, rule: Rule) -> OccupancyRisk | None:
+    """Two buckets: the first holds X ~ Binomial(n, 1/2) items and the second n - X.
+
+    Both rules ask lo <= X <= hi with lo + hi = n (below k: lo = n - k + 1, hi = k - 1;
+    at least a: lo = a, hi = n - a), so by symmetry fails = 2 P(X < lo), from the
+    binomial tail with its relative accuracy, and holds is the window's sum of
+    probabilities when it is narrow, else 1 - fails; balls at rising precision carry every
+    rounding. ``None`` when no precision tried resolves both (the engine goes on).
+    """
+    lo = count - rule.level + 1 if rule.kind == BELOW else rule.level
+    hi = count - lo
+    if lo > hi or lo <= 0:
+        return None  # trivial_holds answers these
+    bits = START_BITS
+    for _ in range(PRECISION_TRIES + 1):
+        with precision(bits + 32):
+            half = arb(1) / 2
+            fails = 2 * balls.binomial_below(count, half, lo)
+            if hi - lo < TWO_BUCKET_WINDOW:
+                first = balls.binomial_pmf(count, lo, half)
+                total, term = first, first
+                for j in range(lo, hi):
+                    term = term * (count - j) / (j + 1)
+                    total += term
+                holds = total
+            else:
+                holds = 1 - fails
+        with precision(bits):
+            if holds > 0 and fails > 0:
+                answer = _answer_of_balls(2, count, rule, +holds, +fails, TWO_BUCKET_BINOMIAL,
+                                          bits)
+                if answer is not None and answer.relative_error_bound <= TARGET_BOUND:
+                    return answer
+        bits *= 2
+    return None
 
 
 def _bracket_loses(buckets: int, candidates: list[OccupancyRisk]) -> bool:

@@ -23,6 +23,7 @@ SADDLE_POINT: Method = "saddle point"
 INCLUSION_EXCLUSION: Method = "inclusion-exclusion"
 SECOND_ORDER_INCLUSION_EXCLUSION: Method = "second-order inclusion-exclusion"
 RECURRENCE: Method = "recurrence"
+TWO_BUCKET_BINOMIAL: Method = "two-bucket binomial"
 
 
 @dataclass(frozen=True, slots=True)
