@@ -82,3 +82,15 @@ def test_two_buckets_against_exact_binomial_sums(count: int, rule: Rule) -> None
         error = abs(Fraction(figure.decimal) - true) / true
         assert error <= max(answer.relative_error_bound, 5e-20)  # exact: 20-digit rounding
         assert figure.value == float(true)  # Python's correctly rounded rational division
+
+
+def test_a_chance_past_huge_exponents_takes_its_text_from_the_logarithm() -> None:
+    # 2^7791 values, 1e2344 identifiers, no value used four times: |ln P| near 4e18495306,
+    # the text formed from ln P (as the pairwise risk's is), checked against the
+    # Poisson-limit logarithm of the module docstring.
+    buckets, count, level = 2**7791, 10**2344, 4
+    answer = occupancy_risk(buckets, count, Rule(BELOW, level))
+    mean = WORK.mpf(count) / buckets
+    tail = WORK.gammainc(level, 0, mean, regularized=True)
+    expected = buckets * WORK.log1p(-tail) / WORK.log(10)
+    assert abs(_log10_of_text(answer.holds.decimal) / expected - 1) < WORK.mpf(10) ** -15

@@ -420,7 +420,7 @@ def _answer_of_balls(buckets: int, count: int, rule: Rule, holds: arb, fails: ar
         fails_log10 = float(((-holds).log1p() / arb(10).log()).mid()) + 0.0
     if holds.mid() >= 0.5:
         holds_log10 = float(((-fails).log1p() / arb(10).log()).mid()) + 0.0
-    first = ball_magnitude(holds, holds_log10)
+    first = ball_magnitude(holds, holds_log10, log_holds)
     second = ball_magnitude(fails, fails_log10)
     if first is None or second is None:
         return None
@@ -429,14 +429,27 @@ def _answer_of_balls(buckets: int, count: int, rule: Rule, holds: arb, fails: ar
                          None, bits)
 
 
-def ball_magnitude(x: arb, log10: float | None = None) -> Magnitude | None:
+#: Past 2**HUGE_EXPONENT_BITS in size, a decimal text is formed from the logarithm.
+HUGE_EXPONENT_BITS = 80_000
+
+
+def ball_magnitude(x: arb, log10: float | None = None,
+                   log_ball: arb | None = None) -> Magnitude | None:
     """Report a positive ball: the float correctly rounded when the ball decides it, else
-    the float nearest the midpoint (within the bound); ``None`` if the ball holds 0."""
+    the float nearest the midpoint (within the bound); ``None`` if the ball holds 0.
+
+    :param log_ball: ln x, when known: a value past 2**HUGE_EXPONENT_BITS in size takes
+        its decimal text from it (as the pairwise risk does), not from a power of ten with
+        tens of thousands of digits (some 0.3 s at 2**8000 values).
+    """
     error = balls.relative_radius(x)
     if error is None:
         return None
     value = balls.to_real(x)
-    found = reporting.bounded_magnitude(value, error, log10)
+    if log_ball is not None and abs(value[2] + value[3]) > HUGE_EXPONENT_BITS:
+        found = reporting.bounded_magnitude_of_log(value, balls.to_real(log_ball), error)
+    else:
+        found = reporting.bounded_magnitude(value, error, log10)
     if found is not None:
         return found
     if log10 is None:
