@@ -5,7 +5,8 @@ bits in the float rounding test, a saddle-point start from a mean load below the
 a precision raise skipped because low-precision rounding looked like truncation, and a
 coverage search whose one interval per count was asked with the search's loose bound.
 
-Reference for the huge spaces: with a mean load lambda far below 1, the chance that no
+Reference for the huge spaces: with a mean load lambda far below 1 (a condition each case
+meets by far), the chance that no
 value is used k times is P = exp(N ln P(Poisson(lambda) < k)) up to a relative change of
 ln P near lambda**(k-1) / (k-1)! (the conditioning of the saddle point; far below 1e-100
 here), so log10 P is -N Q(k, lambda) / ln 10 to that accuracy, with Q the regularized upper
@@ -85,10 +86,10 @@ def test_two_buckets_against_exact_binomial_sums(count: int, rule: Rule) -> None
 
 
 def test_a_chance_past_huge_exponents_takes_its_text_from_the_logarithm() -> None:
-    # 2^7791 values, 1e2344 identifiers, no value used four times: |ln P| near 4e18495306,
-    # the text formed from ln P (as the pairwise risk's is), checked against the
-    # Poisson-limit logarithm of the module docstring.
-    buckets, count, level = 2**7791, 10**2344, 4
+    # 2^7791 values, 1e2300 identifiers (a mean load near 5e-46), no value used four
+    # times: |ln P| near 1e2161, the text formed from ln P (as the pairwise risk's is),
+    # checked against the Poisson-limit logarithm of the module docstring.
+    buckets, count, level = 2**7791, 10**2300, 4
     answer = occupancy_risk(buckets, count, Rule(BELOW, level))
     mean = WORK.mpf(count) / buckets
     tail = WORK.gammainc(level, 0, mean, regularized=True)
