@@ -53,7 +53,7 @@ from urnbound.core.tick_growth import (
     over_half_now,
     past_half,
 )
-from urnbound.core.tick_series import growing_series_risks
+from urnbound.core.tick_series import growing_series_risks, steady_series_risks
 from urnbound.core.ticks import TickRisk, steady_loads, tick_interval, tick_risk
 
 #: The last whole second the search looks at (some 32 million years).
@@ -222,7 +222,7 @@ def project_tick_budget(
     moments = series_moments(horizon, points)
     counts = series_counts(schedule, Fraction(0), moments, bits)
     batched: Sequence[PointRisk | None] = (
-        [None] * len(moments) if growing is None
+        steady_series_risks(random_bits, tick, rate, past, moments, counts) if growing is None
         else growing_series_risks(growing.ticks, moments, counts))
     series = tuple(ProjectedPoint(t, count, risk if risk is not None else risk_at(t))
                    for t, count, risk in zip(moments, counts, batched, strict=True))

@@ -1,11 +1,28 @@
-"""A growing tick budget's series: the tick-model risks of many moments in one MPFR batch.
+"""Tick budgets' series: the tick-model risks of many moments in one MPFR batch.
 
-A budget's series asks the risk at up to 500 moments; ``tick_growth.growing_tick_risk``
-certifies each on its own (about 120 us). Here every moment t > 0 up to the last, T, is
-evaluated by the series (1) of ``core/tick_growth.py`` with MPFR (gmpy2) at ``PREC`` bits,
-rounding to nearest (each operation off by at most u = 2**-PREC relative), and one bound
-e, proven for the whole batch, serves every moment; a moment whose float is undecided at
-e, and the moment 0, take the certified path.
+A budget's series asks the risk at up to 500 moments; ``ticks.tick_risk`` and
+``tick_growth.growing_tick_risk`` certify each on its own (about 120 us). Here every moment
+t > 0 up to the last, T, is evaluated with MPFR (gmpy2) at ``PREC`` bits, rounding to
+nearest (each operation off by at most u = 2**-PREC relative), and one bound e, proven for
+the whole batch, serves every moment; a moment whose float is undecided at e, and a moment
+with nothing issued, take the certified path. Floats and texts are reported under e as
+``series_risk.ReportedBatch`` reports them.
+
+Steady rate. The hazard is linear in the duration: L = -((past + t) / tau) M g(x), with
+x = rate tau / M and g(x) = x - log1p(x) (``core/ticks.py``). g is formed once by
+``ticks.excess`` at PREC + 16 bits from x rounded there, within 6 * 2**-(PREC+16) < u/8000
+relative (``core/ticks.py``), and rounded once to PREC: within (1 + 2**-12) u. Per moment,
+s = (past + t) / tau rounded once (u) and the product s g once more (u); M, a power of two,
+scales exactly. So L is off by d <= 3.01u relative; a relative error d of L moves the risk
+1 - e**L by a factor within exp(d / (1 - d)) (d ln(1 - e**L) / dL = 1 / (e**|L| - 1) <=
+1 / |L|), and expm1 rounds once more:
+
+    e = 6u  (4.1u and room for every second-order term)
+
+bounds every risk of a steady batch, whatever the load (x up to any size: ``ticks.excess``
+keeps g's relative accuracy for every x >= 0).
+
+Growing rate. Every moment is evaluated by the series (1) of ``core/tick_growth.py``.
 
 Terms. The batch sums K terms, K the least >= 2 with xmax**(K-1) <= 2**-(PREC + 4) for
 xmax the largest u/M met (at T when the rate grows, now when it falls; the caller keeps
@@ -27,8 +44,7 @@ a relative error d of L moves the risk 1 - e**L by a factor within exp(d / (1 - 
 
     e = (8 (2K + 6 + 14 max(1, K A)) + 3K + 3) u (1 + 2**-20)
 
-bounds every risk of the batch; floats and texts are reported under it as
-``series_risk.ReportedBatch`` reports them.
+bounds every risk of a growing batch.
 """
 
 from __future__ import annotations
@@ -39,13 +55,60 @@ from fractions import Fraction
 
 import gmpy2
 
+from urnbound.core import precision as mp
 from urnbound.core.growth_counts import YEAR_SECONDS
 from urnbound.core.series_risk import PREC, TAIL_BITS, ReportedBatch, SeriesRisk
 from urnbound.core.tick_growth import GrowingTicks
-from urnbound.core.ticks import TICK_MODEL
+from urnbound.core.ticks import TICK_MODEL, excess
 
 #: Most terms a batch sums (u/M near 1/2 needs about PREC; such series take the certified path).
 MAX_TERMS = 24
+
+
+#: e of a steady batch, in units of 2**-PREC (module docstring).
+STEADY_UNITS = 6
+
+
+def steady_series_risks(random_bits: int, tick: Fraction, rate: Fraction, past: Fraction,
+                        moments: Sequence[Fraction], counts: Sequence[int]
+                        ) -> list[SeriesRisk | None]:
+    """The risk at each moment (with its count) at a steady rate, ``None`` where nothing is
+    issued yet and where undecided.
+
+    >>> found = steady_series_risks(74, Fraction(1, 1000), Fraction(10**6), Fraction(0),
+    ...                             [Fraction(0), Fraction(31536000)], [0, 31536 * 10**9])
+    >>> found[0], found[1].collision.decimal
+    (None, '8.3475062111461937124e-7')
+    """
+    batch = SteadyTickBatch(random_bits, rate * tick, tick, past)
+    found: list[SeriesRisk | None] = []
+    with batch.ctx:  # the current context: what the decimal digits round by
+        for moment, count in zip(moments, counts, strict=True):
+            collision = None if past + moment <= 0 else batch.risk_magnitude(
+                batch.log_no_collision(moment))
+            found.append(None if collision is None else
+                         SeriesRisk(count, collision, TICK_MODEL, batch.text_bound))
+    return found
+
+
+class SteadyTickBatch(ReportedBatch):
+    """One batch of one steady rate: g(x) rounded once, shared by every moment."""
+
+    def __init__(self, random_bits: int, mean: Fraction, tick: Fraction, past: Fraction
+                 ) -> None:
+        super().__init__(Fraction(STEADY_UNITS, 2**PREC), PREC)
+        work = PREC + 16
+        ratio = mp.scale2(mp.real(mean, work), -random_bits)
+        _sign, mantissa, exponent, _bits = excess(ratio, work)  # g >= 0
+        self.excess = self.ctx.mul_2exp(self.ctx.add(gmpy2.mpz(mantissa), self.zero), exponent)
+        self.random_bits, self.tick, self.past = random_bits, tick, past
+
+    def log_no_collision(self, moment: Fraction) -> gmpy2.mpfr:
+        """L = -((past + t) / tau) M g(x) at ``moment``, rounded to nearest."""
+        ctx = self.ctx
+        steps = (self.past + moment) / self.tick
+        rounded = ctx.add(gmpy2.mpq(steps.numerator, steps.denominator), self.zero)
+        return ctx.minus(ctx.mul_2exp(ctx.mul(rounded, self.excess), self.random_bits))
 
 
 def growing_series_risks(ticks: GrowingTicks, moments: Sequence[Fraction],

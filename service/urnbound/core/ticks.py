@@ -214,7 +214,7 @@ def _bounded(random_bits: int, loads: tuple[TickLoad, ...], target: int
     total = mp.ZERO
     for load in loads:
         ratio = mp.scale2(mp.real(load.mean, work), -random_bits)
-        term = mp.mul(mp.real(load.ticks, work), _excess(ratio, work), work)
+        term = mp.mul(mp.real(load.ticks, work), excess(ratio, work), work)
         total = mp.add(total, term, work)
     log_miss = mp.neg(mp.scale2(total, random_bits))
     found = from_log(log_miss, libmp.from_man_exp(8 + len(loads), -work), target)
@@ -227,12 +227,12 @@ def _alternating_unit(k: int, prec: int) -> Real:
     return value if k % 2 == 0 else mp.neg(value)
 
 
-def _excess(x: Real, prec: int) -> Real:
+def excess(x: Real, prec: int) -> Real:
     """g(x) = x - log1p(x) for x >= 0 with full relative accuracy (module docstring).
 
-    >>> mp.to_float(_excess(mp.real(Fraction(1, 10**20), 80), 80))
+    >>> mp.to_float(excess(mp.real(Fraction(1, 10**20), 80), 80))
     5e-41
-    >>> round(mp.to_float(_excess(mp.ONE, 80)), 12)
+    >>> round(mp.to_float(excess(mp.ONE, 80)), 12)
     0.30685281944
     """
     if mp.is_zero(x):
