@@ -51,7 +51,7 @@ from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, SERIES_EXACT_DIGIT_L
 from urnbound.core.pairwise import collision_risk
 from urnbound.core.precision import Real
 from urnbound.core.results import CapacityAnswer, CollisionRisk
-from urnbound.core.search import RiskInterval, certified_boundary
+from urnbound.core.search import RisingSeconds, RiskInterval, certified_boundary
 from urnbound.core.series_risk import SeriesRisk, series_risks
 
 if TYPE_CHECKING:
@@ -464,7 +464,7 @@ def _exhaustion(
 
 
 @dataclass(frozen=True, slots=True)
-class SecondsFamily:
+class SecondsFamily(RisingSeconds):
     """The risk at whole seconds first .. last of an issue schedule (rising in time).
 
     The risk at second t is that of the count family at n(t); every comparison goes
@@ -478,18 +478,6 @@ class SecondsFamily:
     capacity: int
     first: int = 0
     _seen: dict[int, int] = field(default_factory=dict, compare=False, repr=False)
-
-    @property
-    def lowest(self) -> int:
-        return self.first
-
-    @property
-    def highest(self) -> int:
-        return self.last
-
-    @property
-    def rising(self) -> bool:
-        return True
 
     def first_guess(self, max_risk: Fraction) -> int:
         return self.schedule.first_second_reaching(self.capacity + 1) - 1

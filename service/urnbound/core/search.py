@@ -112,6 +112,27 @@ class MonotoneRisk(Protocol):
         """risk(index) <= max_risk, decided with exact arithmetic."""
 
 
+class RisingSeconds:
+    """The bounds of a family over whole seconds ``first`` .. ``last`` whose risk rises in
+    time (budgets running out); the family holds ``first`` and ``last``."""
+
+    __slots__ = ()
+    first: int
+    last: int
+
+    @property
+    def lowest(self) -> int:
+        return self.first
+
+    @property
+    def highest(self) -> int:
+        return self.last
+
+    @property
+    def rising(self) -> bool:
+        return True
+
+
 @dataclass(frozen=True, slots=True)
 class SearchCost:
     """What one search spent: for the benchmark and for tests of its bound.
