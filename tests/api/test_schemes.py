@@ -10,6 +10,7 @@ from collections.abc import Callable
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
+import mpmath
 import pytest
 from flask import Flask
 from prometheus_client.parser import text_string_to_metric_families
@@ -188,8 +189,12 @@ GOOD = ('[[scheme]]\nname = "{name}"\nbits = 64\ncounted_at = 2026-11-01T00:00:0
      "counted_at"),
     (GOOD.format(name="a").replace('max_risk = "1e-6"', "max_risk = 2"), "a", "max_risk"),
     (GOOD.format(name="a") + "points = 40\n", "a", "points"),
-    (GOOD.format(name="a").replace("bits = 64", 'format = "uuid-v7"') + "growth = 2\n", "a",
-     "growth"),
+    # a thousand identifiers a millisecond tick over 2^8 values: past half the values now
+    (GOOD.format(name="a").replace("bits = 64", 'tick = "PT0.001S"\nrandom_bits = 8')
+     .replace("rate = 5", 'rate = "1e6"') + "growth = 2\n", "a", "rate"),
+    # 100 a tick over 2^20 values, ten times more each year: past half after some 3.7 years
+    (GOOD.format(name="a").replace("bits = 64", 'tick = "PT0.001S"\nrandom_bits = 20')
+     .replace("rate = 5", 'rate = "1e5"') + "growth = 10\n", "a", "horizon"),
 ])
 def test_a_bad_file_stops_start_up_naming_scheme_and_field(
     tmp_path: Path, text: str, scheme: str, field: str
@@ -221,3 +226,74 @@ def test_a_time_ordered_scheme_is_watched_by_the_tick_model(tmp_path: Path) -> N
                       "&max_risk=1e-9&points=12").get_json()
     assert body["exhausted_after"] == same["exhausted_after"]
     assert body["method"] == "tick-model"
+
+
+#: A growing time-ordered scheme: 100 identifiers a millisecond tick over 2^40 random values
+#: a tick, ten times as many each year (half the values a tick after some 9.7 years),
+#: counted a day before the clock.
+GROWING_TICKS = ('[[scheme]]\nname = "{name}"\ntick = "PT0.001S"\nrandom_bits = 40\n'
+                 'issued = "2e9"\ncounted_at = 2026-11-30T00:00:00Z\nrate = "1e5"\n'
+                 'growth = 10\nmax_risk = "0.5"\nhorizon = "P{days}D"\n')
+
+
+def reference_tick_risk(seconds: int) -> tuple[mpmath.ctx_mp.MPContext, mpmath.mpf]:
+    """P(collision) of GROWING_TICKS ``seconds`` after its count, by mpmath quadrature.
+
+    Poisson arrivals of intensity rate(s) = 1e5 10^(s / Y) (Y = 365 days, the service's
+    year) into ticks of 1 ms with M = 2^40 values: each tick's log-survival is
+    -(u - M log1p(u / M)) for its mean u (core/ticks.py), integrated over the ticks; the 2e9
+    counted ones are taken as issued at 1e5 a second before the count, 2e4 seconds of ticks
+    at u = 100.
+    """
+    mp = mpmath.MPContext()
+    mp.dps = 40
+    size, tau, year = mp.mpf(2) ** 40, mp.mpf(1) / 1000, mp.mpf(365 * 86_400)
+
+    def excess(u: mpmath.mpf) -> mpmath.mpf:
+        return u - size * mp.log1p(u / size)
+
+    ahead = mp.quad(lambda s: excess(10**5 * mp.power(10, s / year) * tau) / tau,
+                    mp.linspace(0, seconds, 5))
+    hazard = ahead + mp.mpf(2 * 10**4) / tau * excess(10**5 * tau)
+    return mp, -mp.expm1(-hazard)
+
+
+def test_a_growing_time_ordered_scheme_accrues_the_rising_hazard(tmp_path: Path) -> None:
+    path = tmp_path / "schemes.toml"
+    path.write_text(GROWING_TICKS.format(name="sensors", days=3000), encoding="utf-8")
+    client = make_app(path, FrozenClock(START)).test_client()
+    response = client.get("/v1/schemes/sensors")
+    assert response.status_code == 200, response.get_data(as_text=True)
+    body = response.get_json()
+    assert body["method"] == "tick-model"
+    mp, truth = reference_tick_risk(86_400)
+    found = ln_of_text(mp, body["now"]["collision"]["decimal"])
+    assert abs(mp.expm1(found - mp.log(truth))) <= body["now"]["collision"][
+        "relative_error_bound"]
+    # the count issued by then, floored: 2e9 + 1e5 Y (10^(t/Y) - 1) / ln 10 at t = a day
+    year = mp.mpf(365 * 86_400)
+    grown = 2 * 10**9 + 10**5 * year * mp.expm1(86_400 / year * mp.log(10)) / mp.log(10)
+    assert int(body["now"]["count"]) == int(mp.floor(grown))
+    moment = body["exhausted_after"]
+    assert moment is not None and not moment["already_exhausted"]
+    # the reported second brackets the boundary: within budget one second before, over at it
+    seconds = 86_400 + int(moment["seconds"])
+    assert reference_tick_risk(seconds - 1)[1] <= mp.mpf(1) / 2 < reference_tick_risk(seconds)[1]
+
+
+def test_a_growing_time_ordered_scheme_past_its_reach_is_refused_not_fatal(
+        tmp_path: Path) -> None:
+    # valid when counted; two years later the horizon passes half the values per tick
+    path = tmp_path / "schemes.toml"
+    path.write_text(GROWING_TICKS.format(name="sensors", days=3000) + "\n"
+                    + SCHEMES.split("[[scheme]]")[1].join(["[[scheme]]", ""]), encoding="utf-8")
+    clock = FrozenClock(START + timedelta(days=2 * 365))
+    client = make_app(path, clock).test_client()
+    response = client.get("/v1/schemes/sensors")
+    assert response.status_code == 422
+    assert response.mimetype == "application/problem+json"
+    assert "horizon" in response.get_data(as_text=True)
+    text = client.get("/metrics").get_data(as_text=True)
+    schemes = {s.labels.get("scheme") for family in text_string_to_metric_families(text)
+               for s in family.samples if s.name.startswith("urnbound_scheme_")}
+    assert schemes == {"tickets"}

@@ -23,6 +23,7 @@ from werkzeug.exceptions import NotFound
 
 from urnbound.api.rendering import JSON_MEDIA_TYPE, SVG_MEDIA_TYPE
 from urnbound.api.state import service_state
+from urnbound.domain.errors import DomainError
 from urnbound.domain.question import Context
 from urnbound.domain.schemes import Scheme, WatchedSchemes, scheme_named
 
@@ -102,7 +103,10 @@ class SchemeGauges:
             labels=["scheme"])
         now = self.watched.clock()
         for scheme in self.watched.schemes:
-            projection = scheme.projection(now, self.context, points=2)
+            try:
+                projection = scheme.projection(now, self.context, points=2)
+            except DomainError:  # e.g. a growing time-ordered scheme past its horizon's reach:
+                continue  # its own route answers why; the other schemes' gauges still count
             collision = projection.now.risk.collision
             risk.add_metric([scheme.name], collision.value)
             log10 = collision.log10

@@ -15,6 +15,10 @@ as issued at the rate in force now over the issued / rate seconds before now
 tick stay within half the values per tick; a horizon past that is refused). The count
 issued by t is that of the growing schedule (``IssueSchedule.count_at``, enclosed).
 
+A schedule counted some time before now (a watched scheme) is projected from its count:
+now is ``start`` seconds into it, every moment t from now is the schedule's start + t, and
+the search runs over whole seconds from now.
+
 When the budget runs out: the risk rises with the duration (the per-tick hazard is never
 negative, whatever the growth), so the first whole second with risk > max_risk is found
 by the certified search (``search.certified_boundary``) over whole seconds, each compared
@@ -43,7 +47,13 @@ from urnbound.core.projection import (
     series_counts,
     series_moments,
 )
-from urnbound.core.search import RiskInterval, certified_boundary, hazard, log2_of_real
+from urnbound.core.search import (
+    RisingSeconds,
+    RiskInterval,
+    certified_boundary,
+    hazard,
+    log2_of_real,
+)
 from urnbound.core.tick_growth import (
     HIGHEST_LOAD,
     GrowingTickRisk,
@@ -74,8 +84,26 @@ class TickCapacity:
     bounded: bool
 
 
+class _TickModelSeconds(RisingSeconds):
+    """What the tick-model families over whole seconds from now share: no exact path."""
+
+    __slots__ = ()
+
+    def start_bits(self, index: int) -> int:
+        return 64 + index.bit_length()
+
+    def exact_first(self, index: int) -> bool:
+        return False
+
+    def exact_allowed(self, index: int) -> bool:
+        return False
+
+    def exact_at_most(self, index: int, max_risk: Fraction) -> bool:  # pragma: no cover
+        raise DomainError("the tick model has no exact path", field="space")
+
+
 @dataclass(frozen=True, slots=True)
-class TickSeconds:
+class TickSeconds(_TickModelSeconds):
     """The tick-model risk at whole seconds 0 .. last from now (rising in time)."""
 
     random_bits: int
@@ -83,18 +111,7 @@ class TickSeconds:
     rate: Fraction
     past: Fraction
     last: int
-
-    @property
-    def lowest(self) -> int:
-        return 0
-
-    @property
-    def highest(self) -> int:
-        return self.last
-
-    @property
-    def rising(self) -> bool:
-        return True
+    first: int = 0
 
     def first_guess(self, max_risk: Fraction) -> int:
         """d = t / lambda for lambda ~ rate**2 tau / (2M) (leading order), minus the past."""
@@ -111,45 +128,25 @@ class TickSeconds:
     def known(self, index: int) -> Fraction | None:
         return Fraction(0) if self.past + index == 0 else None
 
-    def start_bits(self, index: int) -> int:
-        return 64 + index.bit_length()
-
     def interval(self, index: int, bits: int) -> RiskInterval | None:
         return tick_interval(self.random_bits, steady_loads(self.rate, self.tick,
                                                             self.past + index), bits)
 
-    def exact_first(self, index: int) -> bool:
-        return False
-
-    def exact_allowed(self, index: int) -> bool:
-        return False
-
-    def exact_at_most(self, index: int, max_risk: Fraction) -> bool:  # pragma: no cover
-        raise DomainError("the tick model has no exact path", field="space")
-
 
 @dataclass(frozen=True, slots=True)
-class GrowingTickSeconds:
-    """The tick-model risk at a growing rate at whole seconds 0 .. last (rising in time)."""
+class GrowingTickSeconds(_TickModelSeconds):
+    """The tick-model risk at a growing rate at whole seconds 0 .. last from now (rising in
+    time); now is ``origin`` seconds after the moment the schedule's rate holds."""
 
     ticks: GrowingTicks
     last: int
-
-    @property
-    def lowest(self) -> int:
-        return 0
-
-    @property
-    def highest(self) -> int:
-        return self.last
-
-    @property
-    def rising(self) -> bool:
-        return True
+    origin: Fraction = Fraction(0)
+    first: int = 0
 
     def first_guess(self, max_risk: Fraction) -> int:
-        """Where the leading-order hazard, (rate tau)**2 / (2 M tau) per second now, summed
-        over the past and Y (g**(2t/Y) - 1) / (2 ln g) seconds ahead, meets max_risk."""
+        """Where the leading-order hazard, (rate tau)**2 / (2 M tau) per second at the
+        schedule's start, summed over the past and Y (g**(2t/Y) - 1) / (2 ln g) seconds
+        ahead, meets max_risk (then less the origin)."""
         ticks = self.ticks
         log2_steady = (log2_of_real(hazard(max_risk, 64)) + ticks.random_bits + 1
                        - 2 * _log2(ticks.rate) - _log2(ticks.tick))  # seconds at rate now
@@ -164,26 +161,15 @@ class GrowingTickSeconds:
         inside = remaining * twice_log_growth / YEAR_SECONDS
         if inside <= -1:  # a falling rate never gets there at leading order
             return self.last
-        seconds = YEAR_SECONDS * math.log1p(inside) / twice_log_growth
-        return min(self.last, math.ceil(seconds)) if math.isfinite(seconds) else self.last
+        seconds = YEAR_SECONDS * math.log1p(inside) / twice_log_growth - float(self.origin)
+        return min(self.last, max(0, math.ceil(seconds))) if math.isfinite(seconds) \
+            else self.last
 
     def known(self, index: int) -> Fraction | None:
-        return Fraction(0) if self.ticks.past + index == 0 else None
-
-    def start_bits(self, index: int) -> int:
-        return 64 + index.bit_length()
+        return Fraction(0) if self.ticks.past + self.origin + index == 0 else None
 
     def interval(self, index: int, bits: int) -> RiskInterval | None:
-        return growing_tick_interval(self.ticks, Fraction(index), bits)
-
-    def exact_first(self, index: int) -> bool:
-        return False
-
-    def exact_allowed(self, index: int) -> bool:
-        return False
-
-    def exact_at_most(self, index: int, max_risk: Fraction) -> bool:  # pragma: no cover
-        raise DomainError("the tick model has no exact path", field="space")
+        return growing_tick_interval(self.ticks, self.origin + index, bits)
 
 
 def _log2(value: Fraction) -> float:
@@ -197,8 +183,14 @@ def project_tick_budget(
     horizon: Fraction,
     max_risk: Fraction,
     points: int,
+    *,
+    start: Fraction = Fraction(0),
 ) -> BudgetProjection:
     """The budget of a time-ordered layout at a steady or growing rate (module docstring).
+
+    Now is ``start`` seconds into the schedule (a watched scheme counted some time ago);
+    every reported moment is an offset from now, and the search runs over whole seconds
+    from now.
 
     >>> p = project_tick_budget(74, Fraction(1, 1000), IssueSchedule(0, Fraction(10**6)),
     ...                         Fraction(86400 * 365), Fraction(1, 10**9), 2)
@@ -211,25 +203,26 @@ def project_tick_budget(
     """
     if horizon <= 0:
         raise DomainError("horizon must be above 0", field="horizon")
-    rate, past = schedule.rate, Fraction(schedule.issued) / schedule.rate
-    risk_at, growing, bits = _risks(random_bits, tick, schedule, horizon)
+    if start < 0:
+        raise DomainError("the schedule starts after now", field="start")
+    model = _tick_model(random_bits, tick, schedule, horizon, start)
+
+    def count_at(offset: Fraction) -> int:
+        return schedule.count_at(start + offset, model.bits)
 
     def point(offset: Fraction) -> ProjectedPoint:
-        return ProjectedPoint(offset, schedule.count_at(offset, bits), risk_at(offset))
+        return ProjectedPoint(offset, count_at(offset), model.risk_at(offset))
 
-    family: TickSeconds | GrowingTickSeconds = growing or TickSeconds(
-        random_bits, tick, rate, past, TICK_SEARCH_SECONDS)
     moments = series_moments(horizon, points)
-    counts = series_counts(schedule, Fraction(0), moments, bits)
-    batched: Sequence[PointRisk | None] = (
-        steady_series_risks(random_bits, tick, rate, past, moments, counts) if growing is None
-        else growing_series_risks(growing.ticks, moments, counts))
-    series = tuple(ProjectedPoint(t, count, risk if risk is not None else risk_at(t))
-                   for t, count, risk in zip(moments, counts, batched, strict=True))
+    counts = series_counts(schedule, start, moments, model.bits)
+    series = tuple(ProjectedPoint(t, count, risk if risk is not None else model.risk_at(t))
+                   for t, count, risk in zip(moments, counts, model.batch(moments, counts),
+                                             strict=True))
     now, at_horizon = series[0], series[-1]
-    boundary = certified_boundary(family, max_risk)
+    boundary = certified_boundary(model.family, max_risk)
     first_over = None if boundary is None else boundary.neighbour
-    capacity = _capacity(schedule, boundary is None, first_over, risk_at, family.highest)
+    capacity = _capacity(boundary is None, first_over, model.family.highest, count_at,
+                         model.risk_at)
     exhausted = _exhaustion(first_over, boundary is None, horizon, now, at_horizon, max_risk,
                             point)
     used = Fraction(now.count, max(capacity.count, 1))
@@ -243,35 +236,60 @@ def project_tick_budget(
 RiskAt = Callable[[Fraction], "TickRisk | GrowingTickRisk"]
 
 
-def _risks(random_bits: int, tick: Fraction, schedule: IssueSchedule, horizon: Fraction
-           ) -> tuple[RiskAt, GrowingTickSeconds | None, int | None]:
-    """The risk at an offset, the search family with growth (else ``None``), and the
-    precision of the counts' first enclosure (``None`` at a steady rate)."""
+@dataclass(frozen=True, slots=True)
+class _TickModel:
+    """A schedule as the tick model sees it from now: the certified risk at an offset, the
+    series' batch, the search family, and the precision of the counts' first enclosure
+    (``None`` at a steady rate)."""
+
+    risk_at: RiskAt
+    batch: Callable[[Sequence[Fraction], Sequence[int]], Sequence[PointRisk | None]]
+    family: TickSeconds | GrowingTickSeconds
+    bits: int | None
+
+
+def _tick_model(random_bits: int, tick: Fraction, schedule: IssueSchedule, horizon: Fraction,
+                start: Fraction) -> _TickModel:
     rate, past = schedule.rate, Fraction(schedule.issued) / schedule.rate
     if schedule.growth == 1:
-        return (lambda offset: tick_risk(random_bits, steady_loads(rate, tick, past + offset)),
-                None, None)
+        since = past + start  # the steady hazard depends on the duration alone
+
+        def steady_batch(moments: Sequence[Fraction], counts: Sequence[int]
+                         ) -> Sequence[PointRisk | None]:
+            return steady_series_risks(random_bits, tick, rate, since, moments, counts)
+
+        return _TickModel(
+            lambda offset: tick_risk(random_bits, steady_loads(rate, tick, since + offset)),
+            steady_batch, TickSeconds(random_bits, tick, rate, since, TICK_SEARCH_SECONDS),
+            None)
     ticks = GrowingTicks(random_bits, tick, rate, schedule.growth, past)
     if ticks.load_now >= HIGHEST_LOAD:
         raise DomainError(over_half_now(ticks), field="rate")
     last = ticks.last_second()
-    if horizon > last:
-        raise DomainError(past_half(ticks), field="horizon")
-    highest = TICK_SEARCH_SECONDS if last > TICK_SEARCH_SECONDS else math.floor(last) - 1
-    return ((lambda offset: growing_tick_risk(ticks, offset)),
-            GrowingTickSeconds(ticks, max(0, highest)), schedule.first_bits(horizon))
+    if start + horizon > last:
+        raise DomainError(past_half(ticks, start), field="horizon")
+    ahead = last - float(start)
+    highest = TICK_SEARCH_SECONDS if ahead > TICK_SEARCH_SECONDS else math.floor(ahead) - 1
+
+    def growing_batch(moments: Sequence[Fraction], counts: Sequence[int]
+                      ) -> Sequence[PointRisk | None]:
+        return growing_series_risks(ticks, [start + t for t in moments], counts)
+
+    return _TickModel(lambda offset: growing_tick_risk(ticks, start + offset), growing_batch,
+                      GrowingTickSeconds(ticks, max(0, highest), start),
+                      schedule.first_bits(start + horizon))
 
 
-def _capacity(schedule: IssueSchedule, already: bool, first_over: int | None,
-              risk_at: RiskAt, last_second: int) -> TickCapacity:
+def _capacity(already: bool, first_over: int | None, last_second: int,
+              count_at: Callable[[Fraction], int], risk_at: RiskAt) -> TickCapacity:
+    """The capacity from the search's verdict (offsets from now)."""
     if already:  # over now: the count issued now is past the capacity
-        return TickCapacity(schedule.issued, risk_at(Fraction(0)), None, True)
+        return TickCapacity(count_at(Fraction(0)), risk_at(Fraction(0)), None, True)
     if first_over is None:
         last = Fraction(last_second)
-        return TickCapacity(schedule.count_at(last), risk_at(last), None, False)
-    last_within = Fraction(first_over - 1)
-    return TickCapacity(schedule.count_at(last_within), risk_at(last_within),
-                        risk_at(Fraction(first_over)), True)
+        return TickCapacity(count_at(last), risk_at(last), None, False)
+    within = Fraction(first_over - 1)
+    return TickCapacity(count_at(within), risk_at(within), risk_at(Fraction(first_over)), True)
 
 
 def _exhaustion(first_over: int | None, already: bool, horizon: Fraction,

@@ -225,9 +225,10 @@ def over_half_now(ticks: GrowingTicks) -> str:
             "exceed it now; give a lower rate (or leave out growth)")
 
 
-def past_half(ticks: GrowingTicks) -> str:
-    """The refusal of a horizon past ``GrowingTicks.last_second``."""
-    days = ticks.last_second() / 86_400
+def past_half(ticks: GrowingTicks, start: Fraction = Fraction(0)) -> str:
+    """The refusal of a horizon past ``GrowingTicks.last_second`` (``start`` seconds into
+    the schedule: the days counted from there)."""
+    days = (ticks.last_second() - float(start)) / 86_400
     return (f"at growth {float(ticks.growth):g} the identifiers per tick pass half the "
             f"2^{ticks.random_bits} values per tick after about {days:.4g} days; the tick "
             f"model with growth is projected up to there: give a horizon up to "

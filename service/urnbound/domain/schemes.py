@@ -34,9 +34,9 @@ from fractions import Fraction
 from pathlib import Path
 from typing import Any
 
-from urnbound.core.projection import BudgetProjection, IssueSchedule, project_budget
+from urnbound.core.projection import BudgetProjection, project_budget
 from urnbound.core.tick_budgets import project_tick_budget
-from urnbound.domain.errors import InvalidQuery
+from urnbound.domain.errors import DomainError, InvalidQuery
 from urnbound.domain.formats import TimeOrderedSpace
 from urnbound.domain.inputs import Inputs
 from urnbound.domain.question import Answer, Context
@@ -79,16 +79,17 @@ class Scheme:
                    ) -> BudgetProjection:
         """The scheme's budget as of ``now``.
 
-        A time-ordered layout's budget starts from the count as of now, issued at the
-        steady rate before it (``core/tick_budgets.py``).
+        A time-ordered layout's budget accrues the tick model's hazard from the count's
+        moment on, the identifiers counted then taken as issued at the rate of that moment
+        before it (``core/tick_budgets.py``), so that a growing rate needs no rate as of
+        now.
         """
         inputs, space = self.inputs, self.inputs["space"]
         schedule = budgets.schedule_of(inputs)
         if isinstance(space, TimeOrderedSpace):
-            issued_now = schedule.count_at(self.elapsed(now))
-            return project_tick_budget(space.random_bits, space.tick_seconds,
-                                       IssueSchedule(issued_now, schedule.rate),
-                                       inputs["horizon"], inputs["max_risk"], points)
+            return project_tick_budget(space.random_bits, space.tick_seconds, schedule,
+                                       inputs["horizon"], inputs["max_risk"], points,
+                                       start=self.elapsed(now))
         return project_budget(
             space.size, schedule, inputs["horizon"], inputs["max_risk"], points,
             start=self.elapsed(now), exact_digit_limit=context.exact_digit_limit)
@@ -145,13 +146,22 @@ def _scheme(table: Mapping[str, Any], where: str) -> Scheme:
     texts.setdefault("horizon", DEFAULT_HORIZON)
     try:
         inputs = budgets.QUESTION.load({field: [text] for field, text in texts.items()})
-        if isinstance(inputs["space"], TimeOrderedSpace) and inputs["growth"] not in (None, 1):
-            raise InvalidQuery({"growth": ["a time-ordered layout is projected at a steady "
-                                           "rate: leave out growth (or give 1)"]})
     except InvalidQuery as error:
         field, messages = sorted(error.errors.items())[0]
         raise SchemesError(f"{where}: field {field!r}: {' '.join(messages)}") from None
-    return Scheme(name, counted_at, inputs, texts)
+    scheme = Scheme(name, counted_at, inputs, texts)
+    if isinstance(inputs["space"], TimeOrderedSpace):
+        _check_tick_model(scheme, where)
+    return scheme
+
+
+def _check_tick_model(scheme: Scheme, where: str) -> None:
+    """Refuse a time-ordered scheme the tick model cannot project from its count on (with
+    growth: a rate per tick past half the values per tick, or a horizon past where it is)."""
+    try:
+        scheme.projection(scheme.counted_at, Context(), points=2)
+    except DomainError as error:
+        raise SchemesError(f"{where}: field {error.field!r}: {error.detail}") from None
 
 
 def _budget_fields() -> tuple[str, ...]:
