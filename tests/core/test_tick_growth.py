@@ -84,6 +84,8 @@ CASES = [  # (random bits, tick, rate now, growth, issued)
     (20, Fraction(1), Fraction(3, 2), Fraction(2), 0),
     (12, Fraction(1), Fraction(600), Fraction(11, 10), 50),  # u/M = 0.15: many terms
     (12, Fraction(1), Fraction(600), Fraction(2), 50),  # u/M up to 0.29 within a year
+    (12, Fraction(1), Fraction(1900), Fraction(101, 100), 50),  # u/M = 0.46: some 130 terms
+    (64, Fraction(1), Fraction(7 * 2**60), Fraction(1, 2), 0),  # u/M = 0.44, falling
 ]
 
 
@@ -231,7 +233,13 @@ def test_the_series_batch_is_within_its_bound(bits: int, tick: Fraction, rate: F
     for moment, risk in zip(moments[1:], found[1:], strict=True):
         assert risk is not None and risk.method == "tick-model"
         assert risk.relative_error_bound == batch.text_bound
-        assert_reported(mp, risk.collision, reference_risk(mp, ticks, moment)[0])
+        truth = reference_risk(mp, ticks, moment)[0]
+        assert_reported(mp, risk.collision, truth)
+        # the module docstring's e on the MPFR risk itself, before any reporting
+        with batch.ctx:
+            raw = batch.risk(batch.log_no_collision(moment)).as_integer_ratio()
+        gap = abs(mp.mpf(raw[0]) / raw[1] / truth - 1)
+        assert gap <= mp.mpf(batch.bound.numerator) / batch.bound.denominator
 
 
 def test_the_batch_bound_grows_with_the_terms_and_the_exponent() -> None:

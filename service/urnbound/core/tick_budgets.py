@@ -150,18 +150,23 @@ class GrowingTickSeconds(_TickModelSeconds):
         ticks = self.ticks
         log2_steady = (log2_of_real(hazard(max_risk, 64)) + ticks.random_bits + 1
                        - 2 * _log2(ticks.rate) - _log2(ticks.tick))  # seconds at rate now
-        if log2_steady > 1000:
-            return self.last
         if ticks.past > 2**62:  # a past that long is over any budget the guess can place
             return 0
-        remaining = 2.0**log2_steady - float(ticks.past)
-        if remaining <= 0:
-            return 0
         twice_log_growth = 2 * math.log1p(float(ticks.growth - 1))
-        inside = remaining * twice_log_growth / YEAR_SECONDS
-        if inside <= -1:  # a falling rate never gets there at leading order
-            return self.last
-        seconds = YEAR_SECONDS * math.log1p(inside) / twice_log_growth - float(self.origin)
+        if log2_steady > 64:  # the past (below 2**62 s) is negligible; in logarithms
+            if twice_log_growth < 0:  # a falling rate never gets there at leading order
+                return self.last
+            ln_inside = log2_steady * math.log(2) + math.log(twice_log_growth / YEAR_SECONDS)
+            grown = ln_inside if ln_inside > 40 else math.log1p(math.exp(ln_inside))
+        else:
+            remaining = 2.0**log2_steady - float(ticks.past)
+            if remaining <= 0:
+                return 0
+            inside = remaining * twice_log_growth / YEAR_SECONDS
+            if inside <= -1:  # a falling rate never gets there at leading order
+                return self.last
+            grown = math.log1p(inside)
+        seconds = YEAR_SECONDS * grown / twice_log_growth - float(self.origin)
         return min(self.last, max(0, math.ceil(seconds))) if math.isfinite(seconds) \
             else self.last
 

@@ -61,8 +61,8 @@ from urnbound.core.series_risk import PREC, TAIL_BITS, ReportedBatch, SeriesRisk
 from urnbound.core.tick_growth import GrowingTicks
 from urnbound.core.ticks import TICK_MODEL, excess
 
-#: Most terms a batch sums (u/M near 1/2 needs about PREC; such series take the certified path).
-MAX_TERMS = 24
+#: Most terms a batch sums: u/M up to 1/2, the caller's limit, needs PREC + 5 = 133.
+MAX_TERMS = 140
 
 
 #: e of a steady batch, in units of 2**-PREC (module docstring).
