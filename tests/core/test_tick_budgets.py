@@ -7,6 +7,7 @@ core/ticks.py); here it is evaluated in a private mpmath context at 60 digits.
 
 from __future__ import annotations
 
+import math
 from fractions import Fraction
 
 import mpmath
@@ -82,3 +83,24 @@ def test_a_past_too_long_for_a_float_is_already_over() -> None:
     schedule = IssueSchedule(10**2000, Fraction(37, 10))
     projection = project_tick_budget(16, Fraction(1), schedule, Fraction(1), Fraction(1, 2), 2)
     assert projection.exhausted is not None and projection.exhausted.already
+
+
+def test_the_growing_search_starts_near_its_boundary_in_a_vast_layout() -> None:
+    # 2^7422 values a minute tick, a rate that doubles and more each year: at the rate now the
+    # budget would last some 2^7400 s, past the floats, and the guess once answered with its
+    # last second (where the series needs thousands of terms at thousands of bits). The leading
+    # order, hazard ~ (rate tau)^2 / (2 M tau) per second, solved in logarithms, lands within
+    # a few per cent of the certified moment.
+    from urnbound.core.search import certified_boundary
+    from urnbound.core.tick_budgets import GrowingTickSeconds
+    from urnbound.core.tick_growth import GrowingTicks
+
+    ticks = GrowingTicks(7422, Fraction(60), Fraction(172, 10**5), Fraction(289, 100),
+                         Fraction(0))
+    family = GrowingTickSeconds(ticks, math.floor(ticks.last_second()) - 1)
+    max_risk = Fraction(1, 10**9)
+    guess = family.first_guess(max_risk)
+    boundary = certified_boundary(family, max_risk)
+    assert boundary is not None and boundary.neighbour is not None
+    assert guess < family.highest // 2
+    assert guess == pytest.approx(boundary.neighbour, rel=0.05, abs=0)
