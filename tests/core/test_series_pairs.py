@@ -11,23 +11,23 @@ open) are that function's answers.
 
 from __future__ import annotations
 
-import math
 from collections.abc import Sequence
 
-import gmpy2
 import mpmath
 import pytest
 from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
-from tests.core._reference import (
-    TEXT_ROUNDING,
-    high_precision_risk,
-    ln_of_text,
-    nearest_float,
-    relative_gap,
-    rounding_is_settled,
+from tests.core._reference import high_precision_risk
+from tests.core._series_checks import (
+    SIZES,
+    allowed,
+    as_mpf,
+    assert_magnitude,
+    assert_order_with_repeats,
+    assert_single_answers_outside,
+    counts_of,
+    record_single_answers,
 )
-from tests.core.test_series_risk import SIZES, counts_of
 
 import urnbound.core.series_pairs as series_pairs_module
 from urnbound.core.curves import risk_curve
@@ -37,60 +37,36 @@ from urnbound.core.series_pairs import (
     EXP_LOG_BITS,
     MAX_TERMS,
     PairBatch,
+    batch_key,
     complement_bound,
+    horner_batch,
     log_bits,
     pair_prec,
     series_pairs,
 )
-from urnbound.core.series_risk import RATIO_LIMIT, RiskBatch, horner_terms, stirling_terms
-
-#: Below this ln P(no collision), P(no collision) < 2**-1075 and its float is 0.
-UNDERFLOW_LN = -746
-
-
-def as_mpf(mp: mpmath.ctx_mp.MPContext, value: gmpy2.mpfr) -> mpmath.mpf:
-    numerator, denominator = value.as_integer_ratio()
-    return mp.mpf(numerator) / denominator
+from urnbound.core.series_risk import (
+    RATIO_LIMIT,
+    ReportedBatch,
+    RiskBatch,
+    horner_terms,
+    stirling_terms,
+)
 
 
 def assert_matches_reference(size: int, pair: CollisionRisk) -> None:
     """Both floats correctly rounded, both texts within their bounds, both log10 close."""
     ref = high_precision_risk(size, pair.count)  # mpmath log-gamma at 4 log2 N + 200 bits
-    mp = ref.mp
-    risk, complement = pair.collision, pair.no_collision
-    true_risk = mp.exp(ref.ln_risk)
-    if rounding_is_settled(mp, true_risk, 16):
-        assert risk.value == nearest_float(true_risk)
-    assert relative_gap(mp, ln_of_text(mp, risk.decimal), ref.ln_risk) \
-        <= allowed(pair, risk.relative_error_bound)
-    assert risk.relative_error_bound <= pair.relative_error_bound
-    assert risk.log10 == pytest.approx(float(ref.ln_risk / mp.ln10), rel=1e-12, abs=0)
-    ln_no = ref.ln_no_collision
-    if ln_no < UNDERFLOW_LN:
-        assert complement.value == 0.0
-    else:
-        true_complement = mp.exp(ln_no)
-        if rounding_is_settled(mp, true_complement, 16):
-            assert complement.value == nearest_float(true_complement)
-    assert relative_gap(mp, ln_of_text(mp, complement.decimal), ln_no) \
-        <= allowed(pair, complement.relative_error_bound)
-    assert complement.relative_error_bound <= pair.relative_error_bound
-    tenth = float(ln_no / mp.ln10)  # -inf past the float range, as a single answer has it
-    if math.isfinite(tenth):
-        assert complement.log10 == pytest.approx(tenth, rel=1e-12, abs=0)
-    else:
-        assert complement.log10 == -math.inf
-
-
-def allowed(pair: CollisionRisk, bound: float) -> float:
-    """The reported bound; 5e-20 (20-digit rounding) for the exact path's bound 0."""
-    return max(bound, float(TEXT_ROUNDING)) if pair.method == "exact" else bound
+    for figure, ln_true in ((pair.collision, ref.ln_risk),
+                            (pair.no_collision, ref.ln_no_collision)):
+        assert figure.relative_error_bound <= pair.relative_error_bound
+        assert_magnitude(ref.mp, figure, ln_true, allowed(pair.method,
+                                                          figure.relative_error_bound))
 
 
 def batch_of(size: int, counts: Sequence[int], prec: int) -> PairBatch:
     stirling = stirling_terms(size, prec)
     assert stirling is not None
-    return PairBatch(size, max(counts), stirling, prec)
+    return horner_batch(size, max(counts), stirling, prec)
 
 
 def assert_within_proven_bounds(size: int, count: int) -> None:
@@ -98,6 +74,7 @@ def assert_within_proven_bounds(size: int, count: int) -> None:
     prec = pair_prec(size, count)
     batch = batch_of(size, [count], prec)
     risks = batch.risks
+    assert isinstance(risks, RiskBatch)
     ref = high_precision_risk(size, count)
     mp = ref.mp
     with risks.ctx:
@@ -116,32 +93,19 @@ def assert_within_proven_bounds(size: int, count: int) -> None:
         assert abs(as_mpf(mp, complement) / mp.exp(ref.ln_no_collision) - 1) <= bound
 
 
-def only_batched(monkeypatch: pytest.MonkeyPatch) -> list[int]:
-    """Record the counts handed to ``collision_risk`` (the fallback) by series_pairs."""
-    called: list[int] = []
-
-    def recorded(size: int, count: int, **kwargs: int) -> CollisionRisk:
-        called.append(count)
-        return collision_risk(size, count, **kwargs)
-
-    monkeypatch.setattr(series_pairs_module, "collision_risk", recorded)
-    return called
-
-
 @pytest.mark.parametrize("size", SIZES, ids=lambda size: f"{size.bit_length()}-bits")
 def test_batched_pairs_match_the_reference(size: int, monkeypatch: pytest.MonkeyPatch) -> None:
     counts = counts_of(size)
-    called = only_batched(monkeypatch)
+    called = record_single_answers(monkeypatch, series_pairs_module)
     pairs = series_pairs(size, counts, exact_digit_limit=0)
     assert [p.count for p in pairs] == counts
     for pair in pairs:
         if pair.count not in called:
             assert pair.method == "asymptotic"
-            assert pair.precision_bits == pair_prec(size, pair.count)
+            key = batch_key(size, pair.count, 0)
+            assert key is not None and pair.precision_bits == key[1]
         assert_matches_reference(size, pair)
-    # only counts whose Horner sum would be longer than MAX_TERMS leave the batches
-    for count in called:
-        assert horner_terms(size, count, pair_prec(size, count)) > MAX_TERMS
+    assert called == []  # a Horner sum longer than MAX_TERMS: the wide batch
 
 
 @pytest.mark.parametrize("size", SIZES, ids=lambda size: f"{size.bit_length()}-bits")
@@ -185,7 +149,7 @@ def count_for_log(size: int, log_no: float) -> int:
 def test_tails_keep_full_relative_accuracy(size: int, risk: str,
                                            monkeypatch: pytest.MonkeyPatch) -> None:
     count = count_for_risk(size, risk)
-    called = only_batched(monkeypatch)
+    called = record_single_answers(monkeypatch, series_pairs_module)
     (pair,) = series_pairs(size, [count], exact_digit_limit=0)
     assert called == []
     assert_matches_reference(size, pair)
@@ -207,7 +171,7 @@ def test_risks_near_one_have_their_tiny_complements(size: int, log_no: float,
     count = count_for_log(size, log_no)
     if RATIO_LIMIT * count > size:
         pytest.skip("not in the regime at this size")
-    called = only_batched(monkeypatch)
+    called = record_single_answers(monkeypatch, series_pairs_module)
     (pair,) = series_pairs(size, [count], exact_digit_limit=0)
     assert called == []
     assert pair.collision.value == 1.0 or log_no > -40
@@ -215,11 +179,7 @@ def test_risks_near_one_have_their_tiny_complements(size: int, log_no: float,
 
 
 def test_counts_outside_the_regime_are_the_certified_answers() -> None:
-    size = 2**64
-    outside = [0, 1, 10, 100, size // RATIO_LIMIT + 1, size // 2, size, size + 1]
-    pairs = series_pairs(size, outside)  # 10 and 100: exact at the default limit
-    for count, pair in zip(outside, pairs, strict=True):
-        assert pair == collision_risk(size, count)
+    assert_single_answers_outside(lambda size, counts: series_pairs(size, counts))
 
 
 def test_small_spaces_never_take_the_batch() -> None:
@@ -229,15 +189,17 @@ def test_small_spaces_never_take_the_batch() -> None:
     assert pair.collision.value >= 0.5
 
 
-def test_long_horner_sums_take_the_single_answer(monkeypatch: pytest.MonkeyPatch) -> None:
-    # n = N / 200 at 2**8192: |L| ~ 2**8170, p ~ 8300 bits, K ~ 1,040 terms
+def test_long_horner_sums_take_the_wide_batch(monkeypatch: pytest.MonkeyPatch) -> None:
+    # n = N / 200 at 2**8192: |L| ~ 2**8170, p ~ 8300 bits, K ~ 1,040 terms: one logarithm
     size = 2**8192
     count = size // 200
     assert horner_terms(size, count, pair_prec(size, count)) > MAX_TERMS
-    called = only_batched(monkeypatch)
+    called = record_single_answers(monkeypatch, series_pairs_module)
     (pair,) = series_pairs(size, [count])
-    assert called == [count]
-    assert pair == collision_risk(size, count, exact_digit_limit=2_000)
+    assert called == []
+    single = collision_risk(size, count, exact_digit_limit=2_000)
+    assert pair.method == single.method == "asymptotic"
+    assert pair.relative_error_bound <= single.relative_error_bound
     assert_matches_reference(size, pair)
 
 
@@ -246,19 +208,16 @@ def test_an_undecided_float_falls_back_to_the_certified_path(
     undecided: str, monkeypatch: pytest.MonkeyPatch,
 ) -> None:
     if undecided == "risk":
-        monkeypatch.setattr(RiskBatch, "risk_magnitude", lambda self, log_no: None)
+        monkeypatch.setattr(ReportedBatch, "risk_magnitude", lambda self, log_no: None)
     else:
         monkeypatch.setattr(PairBatch, "complement", lambda self, log_no: None)
-    counts = [10**9, 2 * 10**9, 2**40]
+    counts = [10**9, 2 * 10**9, 2**40, 2**63]  # the last from the wide batch
     for count, pair in zip(counts, series_pairs(2**64, counts), strict=True):
         assert pair == collision_risk(2**64, count)
 
 
 def test_answers_follow_the_given_order_with_repeats() -> None:
-    counts = [5 * 10**9, 10**9, 5 * 10**9, 0]
-    pairs = series_pairs(2**64, counts)
-    assert [p.count for p in pairs] == counts
-    assert pairs[0] is pairs[2]
+    assert_order_with_repeats(lambda size, counts: series_pairs(size, counts))
 
 
 def test_bounds_stay_next_to_the_text_rounding() -> None:

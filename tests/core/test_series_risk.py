@@ -15,12 +15,14 @@ from fractions import Fraction
 import pytest
 from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
-from tests.core._reference import (
-    high_precision_risk,
-    ln_of_text,
-    nearest_float,
-    relative_gap,
-    rounding_is_settled,
+from tests.core._reference import high_precision_risk
+from tests.core._series_checks import (
+    SIZES,
+    as_mpf,
+    assert_magnitude,
+    assert_order_with_repeats,
+    assert_single_answers_outside,
+    counts_of,
 )
 
 from urnbound.core.pairwise import collision_risk
@@ -35,30 +37,12 @@ from urnbound.core.series_risk import (
     stirling_terms,
 )
 
-#: Spaces from the smallest the expansion serves to the largest the service takes.
-SIZES = (1024, 10**6, 2**32, 62**8, 2**64, 36**14, 2**122, 2**256, 10**300, 2**8192)
-
-
-def counts_of(size: int) -> list[int]:
-    """2, 3, the regime's end floor(N / 129) and its neighbour, and a dozen counts between,
-    spread over the bit lengths (not powers of two: 3 * 2**k + 1)."""
-    top = size // RATIO_LIMIT
-    found = {2, 3, top, max(2, top - 1)}
-    bits = top.bit_length()
-    for step in range(12):
-        count = 3 * 2 ** (2 + (bits - 4) * step // 11) + 1
-        if count < top:
-            found.add(count)
-    return sorted(found)
-
 
 def assert_within_bound(size: int, count: int, batch: RiskBatch) -> None:
     """|MPFR risk - reference| <= bound * reference, at the reference's precision."""
     ref = high_precision_risk(size, count)
     mp = ref.mp
-    value = batch.risk(batch.log_no_collision(count))
-    numerator, denominator = value.as_integer_ratio()
-    ours = mp.mpf(numerator) / denominator
+    ours = as_mpf(mp, batch.risk(batch.log_no_collision(count)))
     gap = abs(ours / mp.exp(ref.ln_risk) - 1)
     assert gap <= mp.mpf(batch.bound.numerator) / batch.bound.denominator
 
@@ -66,14 +50,8 @@ def assert_within_bound(size: int, count: int, batch: RiskBatch) -> None:
 def assert_reported(size: int, risk: SeriesRisk | CollisionRisk) -> None:
     """Float correctly rounded, text within its bound, log10 near, all from the reference."""
     ref = high_precision_risk(size, risk.count)
-    mp = ref.mp
-    collision = risk.collision
-    true = mp.exp(ref.ln_risk)
-    if rounding_is_settled(mp, true, 16):
-        assert collision.value == nearest_float(true)
-    gap = relative_gap(mp, ln_of_text(mp, collision.decimal), ref.ln_risk)
-    assert gap <= collision.relative_error_bound <= risk.relative_error_bound
-    assert collision.log10 == pytest.approx(float(ref.ln_risk / mp.ln10), rel=1e-12, abs=0)
+    assert risk.collision.relative_error_bound <= risk.relative_error_bound
+    assert_magnitude(ref.mp, risk.collision, ref.ln_risk, risk.collision.relative_error_bound)
 
 
 @pytest.mark.parametrize("size", SIZES, ids=lambda size: f"{size.bit_length()}-bits")
@@ -122,10 +100,10 @@ def test_the_bound_is_the_stated_one_and_tight_enough_to_decide_floats() -> None
 
 
 def test_counts_outside_the_regime_are_the_certified_answers() -> None:
+    assert_single_answers_outside(lambda size, counts: series_risks(size, counts))
     size = 2**64
-    outside = [0, 1, 10, 100, size // RATIO_LIMIT + 1, size // 2, size, size + 1]
-    risks = series_risks(size, outside)  # 10 and 100: exact at the default limit
-    for count, risk in zip(outside, risks, strict=True):
+    past = [size // RATIO_LIMIT + 1, size // 2, size - 1]  # budgets: no batch past N / 129
+    for count, risk in zip(past, series_risks(size, past), strict=True):
         assert isinstance(risk, CollisionRisk)
         assert risk == collision_risk(size, count)
 
@@ -148,10 +126,7 @@ def test_an_undecided_float_falls_back_to_the_certified_path(
 
 
 def test_answers_follow_the_given_order_with_repeats() -> None:
-    counts = [5 * 10**9, 10**9, 5 * 10**9, 0]
-    risks = series_risks(2**64, counts)
-    assert [r.count for r in risks] == counts
-    assert risks[0] is risks[2]
+    assert_order_with_repeats(lambda size, counts: series_risks(size, counts))
 
 
 def test_risks_near_one_take_log10_from_the_complement() -> None:

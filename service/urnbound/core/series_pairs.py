@@ -2,12 +2,19 @@
 
 A curve reports at each of up to 500 counts the risk and its complement P(no collision),
 each as a float, a 20-digit text with its bound and a log10. ``pairwise.collision_risk``
-certifies each count on its own (at 2**8192 values some 0.5 ms, mostly forming exp(L) at
-thousands of bits); here the counts of the batch's regime (``series_risk``: the expansion's
-counts with 129 n <= N) come from ``series_risk.RiskBatch`` at a precision p chosen for
-the count, and every other count, and any whose float is left open or whose evaluation
-would cost more than MAX_TERMS Horner terms, from ``collision_risk`` itself, exact path
-included.
+certifies each count on its own (at 2**8192 values some 0.5 ms, mostly forming L at
+thousands of bits); here each count of the expansion (``regimes.choose_method``) is put
+into one of two kinds of batch, of one precision each (``series_batches``):
+
+* HORNER: counts with 129 n <= N whose power series needs at most MAX_TERMS Horner
+  terms come from ``series_risk.RiskBatch`` at a precision p chosen for the count (below);
+* WIDE: the other counts with 2 <= n < N (n past N/129, or a series too long) come from
+  ``series_wide.WideLogs``, one logarithm each in ball arithmetic, L within 2**-120
+  absolutely; that module states the bounds of their risks and complements.
+
+Every other count, and any whose float is left open, is ``collision_risk``'s answer,
+exact path included. The rest of this docstring is about the HORNER batches; their
+complements are reported as the WIDE ones are (``PairBatch``).
 
 Precision. |L| = |ln P(no collision)| is below 0.52 n**2 / N < 2**b with
 b = max(0, 2 bits(n) - bits(N) + 1), from the bit lengths (``series_risk``:
@@ -43,7 +50,7 @@ Every float is correctly rounded (decided from the bound, else the single answer
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from fractions import Fraction
 
@@ -52,15 +59,24 @@ from mpmath import libmp
 
 from urnbound.core import reporting
 from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT
-from urnbound.core.pairwise import check_question, collision_risk
+from urnbound.core.pairwise import collision_risk
 from urnbound.core.regimes import choose_method
 from urnbound.core.results import ASYMPTOTIC, CollisionRisk, Magnitude
+from urnbound.core.series_batches import batched_answers
 from urnbound.core.series_risk import (
     PREC,
     RATIO_LIMIT,
+    ReportedBatch,
     RiskBatch,
     horner_terms,
     stirling_terms,
+)
+from urnbound.core.series_wide import (
+    COMPLEMENT_BOUND,
+    RISK_BOUND,
+    WideLogs,
+    rest_terms,
+    wide_prec,
 )
 
 #: Bits of p beyond those of |L| (then d < 2**-90 for every K up to MAX_TERMS).
@@ -75,6 +91,9 @@ EXP_LOG_BITS = 20
 #: Bits of the mantissa 10**f of a complement's text formed from its logarithm.
 MANTISSA_PREC = 128
 _LN10 = math.log(10)
+#: The two kinds of batch: the power series of ``series_risk``, the logarithms of
+#: ``series_wide``.
+HORNER, WIDE = "horner", "wide"
 
 
 def log_bits(size: int, count: int) -> int:
@@ -113,51 +132,73 @@ def series_pairs(
     Counts of the regime come from the batches (module docstring); the others, and any
     the batches leave open, from ``collision_risk(size, count, exact_digit_limit=...)``.
 
-    >>> pairs = series_pairs(2**64, [10**9, 2**40, 10])
+    >>> pairs = series_pairs(2**64, [10**9, 2**40, 10, 2**63])
     >>> [p.no_collision.decimal for p in pairs]  # doctest: +NORMALIZE_WHITESPACE
     ['9.7325899112556864101e-1', '1.0917778104985178856e-14231',
-     '9.9999999999999999756e-1']
+     '9.9999999999999999756e-1', '9.7404695203158311959e-1229147935885106816']
     >>> [p.method for p in pairs]
-    ['asymptotic', 'asymptotic', 'exact']
+    ['asymptotic', 'asymptotic', 'exact', 'asymptotic']
     """
-    check_question(size, 0)
-    groups: dict[int, list[int]] = {}
-    for count in set(counts):
-        if _in_regime(size, count, exact_digit_limit):
-            groups.setdefault(pair_prec(size, count), []).append(count)
-    found: dict[int, CollisionRisk] = {}
-    for prec, members in groups.items():
-        found.update(_batch(size, members, prec))
-    answers = []
-    for count in counts:
-        pair = found.get(count)
-        if pair is None:
-            pair = found[count] = collision_risk(size, count,
-                                                 exact_digit_limit=exact_digit_limit)
-        answers.append(pair)
-    return tuple(answers)
+    def key_of(count: int) -> tuple[str, int] | None:
+        return batch_key(size, count, exact_digit_limit)
+
+    def batch(key: tuple[str, int], members: list[int]) -> dict[int, CollisionRisk]:
+        return _batch(size, members, key)
+
+    def single(count: int) -> CollisionRisk:
+        return collision_risk(size, count, exact_digit_limit=exact_digit_limit)
+
+    return batched_answers(size, counts, key_of, batch, single)
 
 
-def _in_regime(size: int, count: int, exact_digit_limit: int) -> bool:
-    return (count >= 2 and RATIO_LIMIT * count <= size
-            and choose_method(size, count, exact_digit_limit) == ASYMPTOTIC
-            and horner_terms(size, count, pair_prec(size, count)) <= MAX_TERMS)
+def batch_key(size: int, count: int, exact_digit_limit: int) -> tuple[str, int] | None:
+    """The batch of ``count``: (HORNER or WIDE, its precision), or ``None`` (alone).
+
+    >>> batch_key(2**64, 10**9, 0), batch_key(2**64, 2**63, 0), batch_key(2**64, 10, 2000)
+    (('horner', 128), ('wide', 256), None)
+    """
+    if count < 2 or choose_method(size, count, exact_digit_limit) != ASYMPTOTIC:
+        return None
+    if RATIO_LIMIT * count <= size:
+        prec = pair_prec(size, count)
+        if horner_terms(size, count, prec) <= MAX_TERMS:
+            return HORNER, prec
+    if count < size and rest_terms(size - count) is not None:
+        return WIDE, wide_prec(count)
+    return None
 
 
-def _batch(size: int, counts: Iterable[int], prec: int) -> dict[int, CollisionRisk]:
+def _batch(size: int, counts: list[int], key: tuple[str, int]) -> dict[int, CollisionRisk]:
     """count -> risk and complement, for each count whose two floats the batch decides."""
-    ordered = sorted(counts)
-    stirling = stirling_terms(size, prec)
-    if stirling is None:  # pragma: no cover - p > 128 only where N > 2**40, and J <= 4 there
-        return {}
-    batch = PairBatch(size, ordered[-1], stirling, prec)
+    kind, prec = key
+    if kind == HORNER:
+        stirling = stirling_terms(size, prec)
+        if stirling is None:  # pragma: no cover - p > 128 only where N > 2**40, J <= 4
+            return {}
+        batch = horner_batch(size, counts[-1], stirling, prec)
+    else:
+        batch = wide_batch(size, prec)
     found = {}
     with batch.risks.ctx:  # the current context: what the decimal digits round by
-        for count in ordered:
+        for count in counts:
             pair = batch.pair(count)
             if pair is not None:
                 found[count] = pair
     return found
+
+
+def horner_batch(size: int, largest: int, stirling: int, prec: int) -> PairBatch:
+    """The batch of the counts up to ``largest`` at ``prec`` by ``series_risk.RiskBatch``."""
+    terms = horner_terms(size, largest, prec)
+    risks = RiskBatch(size, terms, stirling, prec)
+    return PairBatch(size, risks, complement_bound(size, largest, terms, prec),
+                     risks.log_no_collision)
+
+
+def wide_batch(size: int, prec: int) -> PairBatch:
+    """The batch of counts of ``wide_prec`` up to ``prec`` by ``series_wide.WideLogs``."""
+    return PairBatch(size, ReportedBatch(RISK_BOUND, prec), COMPLEMENT_BOUND,
+                     WideLogs(size, prec).log_no_collision)
 
 
 @dataclass(frozen=True, slots=True)
@@ -170,12 +211,18 @@ class _Interval:
 
 
 class PairBatch:
-    """One batch of one precision: a ``RiskBatch`` and what the complements need."""
+    """One batch of one precision: a way to L, and the reporting of the risk (the
+    ``ReportedBatch`` of the risks' bound) and of the complement (its bound E).
 
-    def __init__(self, size: int, largest: int, stirling: int, prec: int) -> None:
-        terms = horner_terms(size, largest, prec)
-        self.risks = risks = RiskBatch(size, terms, stirling, prec)
-        self.bound = bound = complement_bound(size, largest, terms, prec)
+    :param log_no: count -> L~ within the batch's proven bound, or ``None`` (undecided).
+    """
+
+    def __init__(self, size: int, risks: ReportedBatch, bound: Fraction,
+                 log_no: Callable[[int], gmpy2.mpfr | None]) -> None:
+        self.size = size
+        self.risks = risks
+        self.bound = bound
+        self.log_no = log_no
         stretch = bound * (1 + 2 * bound)
         self.interval = _Interval(
             risks.down.sub(1, gmpy2.mpq(bound.numerator, bound.denominator)),
@@ -189,13 +236,15 @@ class PairBatch:
     def pair(self, count: int) -> CollisionRisk | None:
         """The answer at ``count``, or ``None`` when a float is undecided."""
         risks = self.risks
-        log_no = risks.log_no_collision(count)
+        log_no = self.log_no(count)
+        if log_no is None:
+            return None
         collision = risks.risk_magnitude(log_no)
         no_collision = self.complement(log_no)
         if collision is None or no_collision is None:
             return None
         return CollisionRisk(
-            size=risks.size, count=count, collision=collision, no_collision=no_collision,
+            size=self.size, count=count, collision=collision, no_collision=no_collision,
             method=ASYMPTOTIC,
             relative_error_bound=max(collision.relative_error_bound,
                                      no_collision.relative_error_bound),
@@ -223,7 +272,10 @@ class PairBatch:
         low = self.mantissa_ctx
         mantissa = low.exp(low.mul(fraction, self.mantissa_ln10))
         digits, exponent, _prec = mantissa.digits(10, reporting.DECIMAL_DIGITS)
-        return reporting.scientific_text(digits, int(exponent) - 1 + int(whole))
+        # the exponent (thousands of digits) is written by GMP: a Python int's str took
+        # 60 us at 2,460 digits, 10 us by GMP
+        power = gmpy2.mpz(whole) + (int(exponent) - 1)
+        return f"{digits[0]}.{digits[1:]}e{power}"  # as reporting.scientific_text
 
 
 def _decimal(value: gmpy2.mpfr) -> str:

@@ -61,8 +61,9 @@ the float, or for a risk of 1/2 and more log1p(-q) / ln 10 from the complement q
 
 from __future__ import annotations
 
+import functools
 import math
-from collections.abc import Iterable, Sequence
+from collections.abc import Sequence
 from dataclasses import dataclass
 from fractions import Fraction
 
@@ -71,9 +72,10 @@ from mpmath import libmp
 
 from urnbound.core import reporting
 from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT
-from urnbound.core.pairwise import check_question, collision_risk
+from urnbound.core.pairwise import collision_risk
 from urnbound.core.regimes import choose_method
 from urnbound.core.results import ASYMPTOTIC, CollisionRisk, Magnitude, Method
+from urnbound.core.series_batches import batched_answers
 
 #: Working precision of the batch, in bits (u = 2**-PREC).
 PREC = 128
@@ -124,17 +126,14 @@ def series_risks(
     >>> [r.method for r in risks]
     ['asymptotic', 'asymptotic', 'exact']
     """
-    check_question(size, 0)
-    fast = {count for count in counts if _in_regime(size, count, exact_digit_limit)}
-    found: dict[int, CollisionRisk | SeriesRisk] = {**_batch(size, fast)} if fast else {}
-    answers = []
-    for count in counts:
-        risk = found.get(count)
-        if risk is None:
-            risk = found[count] = collision_risk(size, count,
-                                                 exact_digit_limit=exact_digit_limit)
-        answers.append(risk)
-    return tuple(answers)
+    def key_of(count: int) -> int | None:
+        return PREC if _in_regime(size, count, exact_digit_limit) else None
+
+    def single(count: int) -> CollisionRisk:
+        return collision_risk(size, count, exact_digit_limit=exact_digit_limit)
+
+    return batched_answers(size, counts, key_of, lambda _prec, group: _batch(size, group),
+                           single)
 
 
 def _in_regime(size: int, count: int, exact_digit_limit: int) -> bool:
@@ -171,6 +170,7 @@ def stirling_terms(size: int, prec: int = PREC) -> int | None:
     return None
 
 
+@functools.cache
 def stirling_coefficient(j: int) -> Fraction:
     """c_j = B_2j / (2j (2j - 1)), the j-th coefficient of the Stirling series R(z)."""
     numerator, denominator = libmp.bernfrac(2 * j)
@@ -182,9 +182,8 @@ def risk_bound(terms: int, prec: int = PREC) -> Fraction:
     return Fraction(8 * terms + 32, 2**prec)
 
 
-def _batch(size: int, counts: Iterable[int]) -> dict[int, SeriesRisk]:
-    """count -> risk for each count whose float is decided at the batch's bound."""
-    ordered = sorted(counts)
+def _batch(size: int, ordered: list[int]) -> dict[int, SeriesRisk]:
+    """count -> risk for each count (rising) whose float is decided at the batch's bound."""
     stirling = stirling_terms(size)
     if stirling is None:  # pragma: no cover - every space of the regime has N >= 1024
         return {}
