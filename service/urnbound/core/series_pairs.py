@@ -7,7 +7,8 @@ thousands of bits); here each count of the expansion (``regimes.choose_method``)
 into one of two kinds of batch, of one precision each (``series_batches``):
 
 * HORNER: counts with 129 n <= N whose power series needs at most MAX_TERMS Horner
-  terms come from ``series_risk.RiskBatch`` at a precision p chosen for the count (below);
+  terms (or any number at PREC bits) come from ``series_risk.RiskBatch`` at a precision
+  p chosen for the count (below);
 * WIDE: the other counts with 2 <= n < N (n past N/129, or a series too long) come from
   ``series_wide.WideLogs``, one logarithm each in ball arithmetic, L within 2**-120
   absolutely; that module states the bounds of their risks and complements.
@@ -23,7 +24,7 @@ evaluated at p = max(128, b + GUARD_BITS) bits rounded up to a multiple of PREC_
 counts of one p share one batch, K and J formed at p for its largest count. Its risks keep
 the bound (8K + 32) u of ``series_risk``, and L is off by e_L = (8K + 16) u relative
 (the module docstring there: (7.7K + 15.5) u), so by at most d = 2**b (8K + 16) u, with
-K <= MAX_TERMS: d < 2**-90.
+K <= MAX_TERMS (K <= 19 at p = 128, b <= 28): d < 2**-90.
 
 Complement bound. Write w = 2**-128 and E = 2**b (8K + 20) u + 6 w; E is every complement's
 relative bound in the batch, as reported in ``relative_error_bound`` (with the 20-digit
@@ -83,9 +84,11 @@ from urnbound.core.series_wide import (
 GUARD_BITS = 100
 #: Precisions are rounded up to a multiple of this (fewer batches).
 PREC_STEP = 128
-#: Most Horner terms of a batch: a count needing more (n near N / 129 with |L| past
-#: thousands of bits) costs more here than its single answer, and takes that.
-MAX_TERMS = 48
+#: Most Horner terms of a batch above PREC bits (at PREC, K <= 19 for every count): a
+#: count needing more (n near N / 129 with |L| past hundreds of bits) costs more here
+#: than its logarithm, and takes the WIDE batch (a 500-point curve to 1e2466 at 2**8192
+#: values: 37 ms with 48 terms, 31 with 8).
+MAX_TERMS = 8
 #: Below -2**EXP_LOG_BITS, exp(L) is not formed; the complement's text comes from L / ln 10.
 EXP_LOG_BITS = 20
 #: Bits of the mantissa 10**f of a complement's text formed from its logarithm.
@@ -161,7 +164,7 @@ def batch_key(size: int, count: int, exact_digit_limit: int) -> tuple[str, int] 
         return None
     if RATIO_LIMIT * count <= size:
         prec = pair_prec(size, count)
-        if horner_terms(size, count, prec) <= MAX_TERMS:
+        if prec == PREC or horner_terms(size, count, prec) <= MAX_TERMS:
             return HORNER, prec
     if count < size and rest_terms(size - count) is not None:
         return WIDE, wide_prec(count)

@@ -37,8 +37,9 @@ Bounds of what is reported from L~ (``series_pairs.PairBatch``; w = 2**-128):
 
 * the risk -expm1(L~) rounded once: e^L |expm1(delta)| / (1 - e^L) + u <= d (1 + d) /
   |L| + 2u relative, and as |L| >= 2**-9 (checked at each count; in the regime either
-  129 n > N, so |L| >= n (n - 1) / (2N) > (n - 1) / 258, or |L| > 2**150 where the series
-  would be long) that is at most RISK_BOUND = 2**10 d;
+  129 n > N, so |L| >= n (n - 1) / (2N) > (n - 1) / 258, or the series' precision is
+  past 128 bits, so 2 bits(n) >= bits(N) + 28 and |L| >= n (n - 1) / (2N) > 2**23) that is
+  at most RISK_BOUND = 2**10 d;
 * the complement exp(L~) (L~ >= -2**20), rounded once: e^d (1 + u) - 1 <= 2d relative;
   below, its text from t = L~ / ln 10 (ln 10 and the quotient rounded at p bits, so t is
   off by at most (d + 2.01 u (n + 1)) / ln 10 <= 1.02 d / ln 10) and a mantissa
@@ -111,6 +112,7 @@ class WideLogs:
         self.prec = prec
         self.ctx = gmpy2.context(precision=prec, emin=gmpy2.get_emin_min(),
                                  emax=gmpy2.get_emax_max())
+        self.big = arb(size)  # exact, as every integer made a ball here
         self.truncation = arb(0, arb(2) ** -(LOG_BITS + 8))
         self.largest_radius = arb(2) ** -(LOG_BITS + 1)
         self.floor = arb(2) ** -LOG_FLOOR_BITS + arb(2) ** -LOG_BITS
@@ -130,16 +132,16 @@ class WideLogs:
 
     def ball(self, count: int, terms: int) -> arb:
         """L as a ball at flint's current precision (module docstring)."""
-        size, rest = self.size, self.size - count
-        if 2 * count <= size:
-            logarithm = (-(arb(count) / size)).log1p()
+        rest = self.size - count
+        if 2 * count <= self.size:
+            logarithm = (-(arb(count) / self.big)).log1p()
         else:
-            logarithm = (arb(rest) / size).log()
-        leading = arb(2 * rest + 1) * logarithm / -2 - count
-        return leading + self.stirling_difference(rest, terms) + self.truncation
+            logarithm = (arb(rest) / self.big).log()
+        leading = arb(2 * rest + 1) * logarithm / -2 - count + self.truncation
+        return leading + self.stirling_difference(rest, terms) if terms else leading
 
     def stirling_difference(self, rest: int, terms: int) -> arb:
-        """sum_{j=1..J} c_j (N**(1-2j) - M**(1-2j)), J = ``terms`` (0 for J = 0)."""
+        """sum_{j=1..J} c_j (N**(1-2j) - M**(1-2j)), J = ``terms`` >= 1."""
         total = arb(0)
         for j in range(1, terms + 1):
             coefficient = stirling_coefficient(j)
