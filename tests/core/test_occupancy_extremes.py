@@ -23,8 +23,17 @@ import pytest
 
 from urnbound.core.errors import DomainError
 from urnbound.core.occupancy import occupancy_risk
-from urnbound.core.occupancy_inverse import fewest_draws
-from urnbound.core.occupancy_results import AT_LEAST, BELOW, Rule
+from urnbound.core.occupancy_exact import allowed_outcomes
+from urnbound.core.occupancy_inverse import (
+    CoverFamily,
+    LoadFamily,
+    _log_of_complement,
+    _top_draws,
+    fewest_draws,
+    smallest_load,
+)
+from urnbound.core.occupancy_results import AT_LEAST, BELOW, OccupancyRisk, Rule
+from urnbound.core.search import certified_boundary
 
 WORK = mpmath.MPContext()
 WORK.prec = 4000
@@ -95,3 +104,144 @@ def test_a_chance_past_huge_exponents_takes_its_text_from_the_logarithm() -> Non
     tail = WORK.gammainc(level, 0, mean, regularized=True)
     expected = buckets * WORK.log1p(-tail) / WORK.log(10)
     assert abs(_log10_of_text(answer.holds.decimal) / expected - 1) < WORK.mpf(10) ** -15
+
+
+# --- the speed cases of the occupancy engine (each once over 5 ms, one a 500) -------------
+
+
+def _excess_reference(buckets: int, count: int, level: int) -> mpmath.mpf:
+    """P(no bucket reaches ``level``) near a full filling, from exact integers and mpmath.
+
+    With c = k - 1 and the deficit m = c N - n, write each bucket's count as c - i: the
+    outcomes number n! [z^n] (sum_{j<=c} z^j/j!)^N = n! [w^m] (sum_i w^i/(c-i)!)^N, and
+    c!/(c-i)! = c (c-1) ... (c-i+1) is an integer, so [w^m] B(w)^N with those integer
+    coefficients is formed here by repeated convolution in Python integers (m is small),
+    and P = n! [w^m] B^N / (c!^N N^n) in logarithms by mpmath at 4,000 bits.
+    """
+    top = level - 1
+    gap = top * buckets - count
+    base = [1]
+    for i in range(1, min(top, gap) + 1):
+        base.append(base[-1] * (top - i + 1))
+    power = [1] + [0] * gap
+    for _ in range(buckets):
+        power = [sum(power[j - i] * base[i] for i in range(min(j, len(base) - 1) + 1))
+                 for j in range(gap + 1)]
+    ctx = WORK
+    log_p = (ctx.loggamma(count + 1) - buckets * ctx.loggamma(level) - count * ctx.log(buckets)
+             + ctx.log(power[gap]))
+    return ctx.exp(log_p)
+
+
+def _check_both(answer: OccupancyRisk, holds: mpmath.mpf) -> None:
+    """The answer's texts hold P and 1 - P within its bound (and 20-digit rounding)."""
+    for figure, true in ((answer.holds, holds), (answer.fails, 1 - holds)):
+        error = abs(WORK.mpf(figure.decimal) / true - 1)
+        assert error <= max(answer.relative_error_bound, 5e-20)
+
+
+def test_a_gap_of_twice_the_buckets_from_a_full_filling_is_answered_by_the_recurrence() -> None:
+    # 5 buckets, 500,000 items, none at 100,003 (a deficit of 10 from the fullest filling):
+    # no method applied (the excess recurrence was kept to gaps below N) and /v1/loads with
+    # max_risk=0.999999 answered 500. Its terms may be negative past N; the balls hold.
+    answer = occupancy_risk(5, 500_000, Rule(BELOW, 100_003))
+    assert answer.method == "recurrence"
+    _check_both(answer, _excess_reference(5, 500_000, 100_003))
+
+
+def test_the_smallest_load_next_to_a_full_filling_is_proven() -> None:
+    # /v1/loads?buckets=5&count=500000&max_risk=0.999999 was the 500 above.
+    found = smallest_load(5, 500_000, Fraction(999_999, 10**6))
+    at = _excess_reference(5, 500_000, found.load)
+    below = _excess_reference(5, 500_000, found.load - 1)
+    assert 1 - at <= mpmath.mpf(999_999) / 10**6 < 1 - below
+    _check_both(found.at_load, at)
+
+
+@pytest.mark.parametrize(("buckets", "count", "level"), [
+    (10, 1000, 140),  # the exact integers took 6 to 8 ms here (their cost model: 19e6)
+    (5, 1000, 260),
+    (3, 1000, 400),
+])
+def test_few_buckets_with_a_large_cap_by_squared_ball_polynomials(buckets: int, count: int,
+                                                                  level: int) -> None:
+    answer = occupancy_risk(buckets, count, Rule(BELOW, level))
+    assert answer.method == "polynomial power"
+    _check_both(answer, _excess_reference(buckets, count, level))
+
+
+def test_coverage_near_a_full_filling_by_squared_ball_polynomials() -> None:
+    # 3 buckets each used at least 300 times among 1,000 draws: an excess of 100, past the
+    # recurrence's steps. Reference: n! [z^m] (sum_i z^i/(a+i)!)^N / N^n with the integer
+    # coefficients (a+m)!/(a+i)!, convolved in Python integers, as above.
+    buckets, count, level = 3, 1000, 300
+    excess = count - level * buckets
+    base = [math.factorial(level + excess) // math.factorial(level + i) for i in range(excess + 1)]
+    power = [1] + [0] * excess
+    for _ in range(buckets):
+        power = [sum(power[j - i] * base[i] for i in range(j + 1)) for j in range(excess + 1)]
+    holds = Fraction(math.factorial(count) * power[excess],
+                     math.factorial(level + excess) ** buckets * buckets**count)
+    answer = occupancy_risk(buckets, count, Rule(AT_LEAST, level))
+    assert answer.method == "polynomial power"
+    _check_both(answer, WORK.mpf(holds.numerator) / holds.denominator)
+
+
+def test_the_float_target_next_to_one_keeps_its_digits() -> None:
+    # The coverage search's Newton step took ln(float(0.999999999)), off by 1e-16: some
+    # 10**5 draws at 10**12 buckets, and a search over them (13 ms). ln(1 - 1e-9) from
+    # mpmath at 50 digits.
+    ctx = mpmath.MPContext()
+    ctx.dps = 50
+    expected = float(ctx.log1p(-ctx.mpf(1) / 10**9))
+    assert _log_of_complement(Fraction(1, 10**9)) == pytest.approx(expected, rel=1e-15, abs=0)
+
+
+def test_fewest_draws_next_to_one_over_a_trillion_buckets_asks_few_answers() -> None:
+    # The regression of the float target above: the guess is within a few draws, and the
+    # search keeps at most six answers (it kept 45). The boundary is the search's own proof.
+    target = Fraction(999_999_999, 10**9)
+    family = CoverFamily(10**12, 300, _top_draws(10**12, 300, 1 - target))
+    boundary = certified_boundary(family, 1 - target)
+    assert boundary is not None and boundary.index == fewest_draws(10**12, 300, target).draws
+    assert len(family.found) <= 6
+
+
+@pytest.mark.parametrize(("buckets", "count"), [(5, 500_000), (20, 2_000_000), (3, 300_000)])
+def test_the_smallest_load_over_few_buckets_asks_two_answers(buckets: int, count: int) -> None:
+    # Few buckets at a mean load of 1e5 with max_risk 1/2: the clumping heuristic's guess
+    # was some 40 loads off and the search asked five answers (each a saddle point with
+    # incomplete gamma functions of that size, 18 to 21 ms); the float saddle point now
+    # places the guess. The boundary is proven by the search from the engine's intervals.
+    family = LoadFamily(buckets, count)
+    boundary = certified_boundary(family, Fraction(1, 2))
+    assert boundary is not None
+    family.final(boundary.index)
+    family.final(boundary.index - 1)
+    assert len(family.found) <= 3
+
+
+@pytest.mark.parametrize(("buckets", "count", "rule"), [
+    (2, 3000, Rule(BELOW, 1600)),  # 16 ms, most of it forming 200 factorials of ~1,500
+    (2, 3000, Rule(AT_LEAST, 1400)),
+    (2, 60, Rule(BELOW, 40)),
+])
+def test_exact_counts_of_two_buckets_against_binomial_sums(buckets: int, count: int,
+                                                           rule: Rule) -> None:
+    # Two buckets: the first holds j items with C(n, j) outcomes; the rule asks
+    # lo <= j <= n - lo (lo = n - k + 1 below k, lo = a at least a): a sum of binomials.
+    lo = count - rule.level + 1 if rule.kind == BELOW else rule.level
+    assert allowed_outcomes(buckets, count, rule).allowed == sum(
+        math.comb(count, j) for j in range(lo, count - lo + 1))
+
+
+def test_exact_counts_of_three_buckets_against_multinomial_sums() -> None:
+    # Three buckets, 40 items, every bucket at least 5 and (separately) below 18: the
+    # multinomial coefficients n! / (i! j! l!) summed over the allowed (i, j, l).
+    count = 40
+    rules = ((Rule(AT_LEAST, 5), lambda c: c >= 5), (Rule(BELOW, 18), lambda c: c < 18))
+    for rule, allowed in rules:
+        expected = sum(math.comb(count, i) * math.comb(count - i, j)
+                       for i in range(count + 1) for j in range(count - i + 1)
+                       if allowed(i) and allowed(j) and allowed(count - i - j))
+        assert allowed_outcomes(3, count, rule).allowed == expected

@@ -24,7 +24,12 @@ Choice of method, by estimated cost and by regime, never by a fixed n:
 6. The saddle point (``saddle``) with three correction terms, when its bound (rounding
    plus the truncation estimate) is at most ``TARGET_BOUND``; then the recurrences up to
    ``occupancy_series.MAX_STEPS`` steps.
-7. Otherwise exact if its cost is at most ``EXACT_MAX_COST`` (measured under 50 ms),
+7. Near the top of the range again (a small gap from a full filling, however many
+   multiples of N it is), [w^m] B**N by squaring ball polynomials of positive
+   coefficients (``occupancy_series.log_from_top``) when its forecast products are at
+   most ``POWER_MAX_PAIRS``: proven by ball arithmetic, some 2 ms where the exact
+   integers took 6 (few buckets, a cap of hundreds).
+8. Otherwise exact if its cost is at most ``EXACT_MAX_COST`` (measured under 50 ms),
    else whichever approximate answer has the smaller bound (a tail bracket among them),
    reported as it is.
 """
@@ -48,6 +53,7 @@ from urnbound.core.occupancy_exact import allowed_outcomes, exact_cost, trivial_
 from urnbound.core.occupancy_results import (
     BELOW,
     INCLUSION_EXCLUSION,
+    POLYNOMIAL_POWER,
     RECURRENCE,
     SADDLE_POINT,
     SECOND_ORDER_INCLUSION_EXCLUSION,
@@ -117,6 +123,12 @@ def occupancy_risk(buckets: int, count: int, rule: Rule, *,
             if found.relative_error_bound <= target:
                 return found
             candidates.append(found)
+    if _power_fits(buckets, count, rule, steps):
+        found = _attempt(_power_answer, buckets, count, rule)
+        if found is not None:
+            if found.relative_error_bound <= target:
+                return found
+            candidates.append(found)
     if cost <= EXACT_MAX_COST:
         return _exact_answer(buckets, count, rule)
     for method in last:  # a bracket may still be the best answer there is
@@ -128,6 +140,26 @@ def occupancy_risk(buckets: int, count: int, rule: Rule, *,
         _refuse_beyond_digits(buckets, count, rule)
         raise NoConvergence("no method reaches this question within its cost limit")
     return min(candidates, key=lambda answer: answer.relative_error_bound)
+
+
+def same_under_full_target(buckets: int, count: int, rule: Rule, asked: float,
+                           answer: OccupancyRisk) -> bool:
+    """Whether ``answer``, given by :func:`occupancy_risk` when asked with ``target=asked``
+    (at least ``TARGET_BOUND``), is the answer it gives with its full target.
+
+    True when the answer reaches the full target (the engine would have stopped at the
+    same method: the order of methods depends on the target only through the tail
+    forecast, checked to be the same), or when its bound is above ``asked``: then no
+    method returned early under ``asked``, and none would under the smaller target
+    either (every candidate's bound is at least the smallest), so with the same methods
+    in the same order both runs compute the same candidates and keep the same one.
+    """
+    if answer.relative_error_bound <= TARGET_BOUND:
+        return True
+    if answer.relative_error_bound <= asked:
+        return False
+    return _tail_methods(buckets, count, rule, asked) == _tail_methods(
+        buckets, count, rule, TARGET_BOUND)
 
 
 def _refuse_beyond_digits(buckets: int, count: int, rule: Rule) -> None:
@@ -351,6 +383,34 @@ def _recurrence_answer(buckets: int, count: int, rule: Rule) -> OccupancyRisk | 
             with precision(bits):
                 answer = _answer_of_balls(buckets, count, rule, value.exp(), -value.expm1(),
                                           RECURRENCE, bits, log_holds=value)
+        if answer is not None:
+            return answer
+        bits *= 2
+    return None
+
+
+#: Most coefficient products of the squared ball polynomials (about 3 ns each at the
+#: working precision: some 2 ms; ``occupancy_series.power_pairs``).
+POWER_MAX_PAIRS = 700_000
+
+
+def _power_fits(buckets: int, count: int, rule: Rule, steps: int | None) -> bool:
+    """The powering of ball polynomials is within its cost and the recurrence was not run
+    (or ran only past its reach: its steps were over ``series.MAX_STEPS``)."""
+    pairs = series.power_pairs(buckets, count, rule)
+    return (pairs is not None and pairs <= POWER_MAX_PAIRS
+            and (steps is None or steps > series.MAX_STEPS))
+
+
+def _power_answer(buckets: int, count: int, rule: Rule) -> OccupancyRisk | None:
+    """ln P from [w^m] B**N formed by squaring ball polynomials (``occupancy_series``):
+    positive coefficients, nothing cancels, however far the gap m is past N."""
+    bits = START_BITS + 32
+    for _ in range(PRECISION_TRIES):
+        value = series.log_from_top(buckets, count, rule, bits, by_powers=True)
+        with precision(bits):
+            answer = _answer_of_balls(buckets, count, rule, value.exp(), -value.expm1(),
+                                      POLYNOMIAL_POWER, bits, log_holds=value)
         if answer is not None:
             return answer
         bits *= 2

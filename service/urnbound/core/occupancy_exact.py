@@ -85,7 +85,7 @@ def _deficit(buckets: int, count: int, rule: Rule) -> int:
 def _below_from_bottom(buckets: int, count: int, level: int) -> int:
     top = min(level - 1, count)
     scale = math.factorial(top)
-    base = fmpz_poly([scale // math.factorial(j) for j in range(top + 1)])
+    base = fmpz_poly(_rising_to_one(1, top)[::-1])  # top!/j! for j = 0 .. top
     coefficient = int(base.pow_trunc(buckets, count + 1)[count])
     quotient, rest = divmod(math.factorial(count) * coefficient, scale**buckets)
     assert rest == 0
@@ -96,7 +96,7 @@ def _below_from_top(buckets: int, count: int, level: int) -> int:
     deficit = _deficit(buckets, count, Rule(BELOW, level))
     top = min(level - 1, deficit)
     scale = math.factorial(level - 1)
-    base = fmpz_poly([scale // math.factorial(level - 1 - i) for i in range(top + 1)])
+    base = fmpz_poly(_falling_products(level - 1, top))
     coefficient = int(base.pow_trunc(buckets, deficit + 1)[deficit])
     quotient, rest = divmod(math.factorial(count) * coefficient, scale**buckets)
     assert rest == 0
@@ -106,11 +106,34 @@ def _below_from_top(buckets: int, count: int, level: int) -> int:
 def _at_least(buckets: int, count: int, level: int) -> int:
     excess = count - level * buckets
     scale = math.factorial(level + excess)
-    base = fmpz_poly([scale // math.factorial(level + i) for i in range(excess + 1)])
+    base = fmpz_poly(_rising_to_one(level + 1, level + excess)[::-1])
     coefficient = int(base.pow_trunc(buckets, excess + 1)[excess])
     quotient, rest = divmod(math.factorial(count) * coefficient, scale**buckets)
     assert rest == 0
     return int(quotient)
+
+
+def _falling_products(top: int, terms: int) -> list[int]:
+    """top!/(top - i)! = top (top - 1) ... (top - i + 1) for i = 0 .. terms, each from the
+    one before (forming each factorial and dividing took most of the exact path's time
+    with few buckets and a large cap: 16 ms of 16 at two buckets, 3,000 items, cap 1,600).
+
+    >>> _falling_products(5, 3)
+    [1, 5, 20, 60]
+    """
+    products = [1]
+    for i in range(terms):
+        products.append(products[-1] * (top - i))
+    return products
+
+
+def _rising_to_one(low: int, high: int) -> list[int]:
+    """high!/j! for j = high, high - 1, .., low - 1: the products (j + 1) ... high, from 1.
+
+    >>> _rising_to_one(3, 5)  # 5!/5!, 5!/4!, 5!/3!, 5!/2!
+    [1, 5, 20, 60]
+    """
+    return _falling_products(high, high - low + 1)
 
 
 def _surjections(buckets: int, count: int) -> int:

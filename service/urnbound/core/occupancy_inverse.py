@@ -20,9 +20,9 @@ comparisons and the reported figures never ask the engine twice for the same ind
 Answers at the guess and next to it are asked with the engine's full target (they are
 the likely answer and its neighbour, reported as they are); the others with
 ``SEARCH_BOUND``, which any comparison needs at most. A reported figure is an answer
-asked with the full target, or one whose bound already reaches that target: the engine
-tries its methods in the same order under either target, so that answer is the one it
-would give (``_EngineFamily.final``).
+asked with the full target, or one the engine would give unchanged with it: its bound
+reaches that target, or is above the bound it was asked with while the methods' order is
+the same under both (``occupancy.same_under_full_target``, ``_EngineFamily.final``).
 """
 
 from __future__ import annotations
@@ -42,6 +42,7 @@ from urnbound.core.occupancy import (
     EXACT_MAX_COST,
     TARGET_BOUND,
     occupancy_risk,
+    same_under_full_target,
 )
 from urnbound.core.occupancy_exact import allowed_outcomes, exact_cost
 from urnbound.core.occupancy_guesses import (
@@ -54,6 +55,7 @@ from urnbound.core.occupancy_guesses import (
 from urnbound.core.occupancy_results import AT_LEAST, BELOW, OccupancyRisk, Rule
 from urnbound.core.precision import Real
 from urnbound.core.results import EXACT
+from urnbound.core.saddle import float_log_holds
 from urnbound.core.search import RiskInterval, certified_boundary
 
 #: Doublings of the draw count while looking for a proven top of the range.
@@ -62,6 +64,11 @@ MAX_DOUBLINGS = 200
 NEWTON_STEPS = 2
 #: Engine answers that correct the first guess of the smallest load, at most.
 LOAD_STEPS = 6
+#: Up to this many buckets and from this max_risk, the smallest load's guesses come from
+#: the float saddle point: the clumping heuristic misses there (the items' fixed total
+#: ties the buckets together), while it is close in the tail, where breaking is rare.
+SADDLE_GUESS_BUCKETS = 10_000
+SADDLE_GUESS_RISK = Fraction(1, 1_000)
 #: A corrected guess this close to the one before is asked with the full target.
 CLOSE_STEP = 8
 #: The bound an engine answer needs inside a search: a comparison with a budget is settled
@@ -190,8 +197,8 @@ class _EngineFamily:
     def final(self, index: int) -> OccupancyRisk:
         """The answer the engine gives at ``index`` with its full target (module docstring)."""
         kept = self.found.get(index)
-        if kept is not None and (kept[1] <= TARGET_BOUND
-                                 or kept[0].relative_error_bound <= TARGET_BOUND):
+        if kept is not None and (kept[1] <= TARGET_BOUND or same_under_full_target(
+                self.buckets, self._count(index), self._rule(index), kept[1], kept[0])):
             return kept[0]
         found = occupancy_risk(self.buckets, self._count(index), self._rule(index))
         self.found[index] = (found, TARGET_BOUND)
@@ -232,11 +239,12 @@ class _EngineFamily:
 class LoadFamily(_EngineFamily):
     """P(some bucket holds >= k) over loads k = 1 .. n + 1 (falling in k)."""
 
-    __slots__ = ("count",)
+    __slots__ = ("count", "saddle_model")
 
     def __init__(self, buckets: int, count: int) -> None:
         super().__init__(buckets)
         self.count = count
+        self.saddle_model = False
 
     def _rule(self, index: int) -> Rule:
         return Rule(BELOW, index)
@@ -274,6 +282,8 @@ class LoadFamily(_EngineFamily):
         target (the guess is then usually the answer or next to it).
         """
         wanted = log_hazard_of(max_risk)
+        self.saddle_model = (self.buckets <= SADDLE_GUESS_BUCKETS
+                             and max_risk >= SADDLE_GUESS_RISK)
         guess = self._solve(wanted)
         seen: list[tuple[int, float]] = []
         for step in range(LOAD_STEPS):
@@ -293,7 +303,7 @@ class LoadFamily(_EngineFamily):
         """The shift correction after one answer, the secant after two (see first_guess)."""
         (last, miss), previous = seen[-1], seen[-2] if len(seen) > 1 else None
         if previous is None or previous[1] == miss:
-            shift = miss + wanted - log_expected_at_least(self.buckets, self.count, last)
+            shift = miss + wanted - self._model(last)
             return self._solve(wanted - shift)
         slope = (miss - previous[1]) / (last - previous[0])
         step = -miss / slope
@@ -307,11 +317,28 @@ class LoadFamily(_EngineFamily):
             if high - low <= 1:
                 break
             middle = (low + high) // 2
-            if log_expected_at_least(self.buckets, self.count, middle) <= wanted:
+            if self._model(middle) <= wanted:
                 high = middle
             else:
                 low = middle
         return high
+
+    def _model(self, load: int) -> float:
+        """The float estimate of ln(-ln P(no bucket reaches ``load``)) the guesses use:
+        the clumping heuristic ln(N P(>= k)), or for few buckets the float saddle point
+        (falling back to the heuristic where its floats fail)."""
+        if self.saddle_model:
+            found = self._saddle_hazard(load)
+            if found is not None:
+                return found
+        return log_expected_at_least(self.buckets, self.count, load)
+
+    def _saddle_hazard(self, load: int) -> float | None:
+        """ln(-ln P) from :func:`saddle.float_log_holds`; ``None`` where it has none."""
+        if self.known(load) is not None:
+            return None
+        log_holds = float_log_holds(self.buckets, self.count, Rule(BELOW, load))
+        return math.log(-log_holds) if log_holds is not None and log_holds < 0 else None
 
 
 class CoverFamily(_EngineFamily):
@@ -356,8 +383,7 @@ class CoverFamily(_EngineFamily):
                 high = middle
             else:
                 low = middle
-        self.focus = self._polished(high, math.log(float(1 - max_risk)) if (
-            1 - max_risk > Fraction(1, 10**300)) else -690.0)
+        self.focus = self._polished(high, _log_of_complement(max_risk))
         return self.focus
 
     def _polished(self, guess: int, log_target: float) -> int:
@@ -365,21 +391,40 @@ class CoverFamily(_EngineFamily):
 
         d ln P / dn is about P(Binomial(n - 1, 1/N) = a - 1), the slope of
         -N P(Binomial(n, 1/N) < a);
-        the steps are uncertified (the search proves the answer), at most NEWTON_STEPS.
+        the steps are uncertified (the search proves the answer), at most NEWTON_STEPS,
+        and none is taken that twice the answer's own error could account for.
         """
         count = guess
         for _ in range(NEWTON_STEPS):
             if not self.lowest < count < self.top:
                 return count
-            log10 = self.answer(count, SEARCH_BOUND).holds.log10  # kept for the search
+            found = self.answer(count, SEARCH_BOUND)  # kept for the search
+            log10 = found.holds.log10
             if log10 is None:
                 return count
-            slope = math.exp(log_binomial_pmf(count - 1, 1 / self.buckets, self.level - 1))
-            step = (log_target - log10 * math.log(10)) / max(slope, 1e-300)
-            if abs(step) < 1:
-                return count
+            slope = max(math.exp(log_binomial_pmf(count - 1, 1 / self.buckets,
+                                                  self.level - 1)), 1e-300)
+            step = (log_target - log10 * math.log(10)) / slope
+            if abs(step) < 1 or abs(step) <= 2 * _log_holds_error(found) / slope:
+                return count  # (a step within the answer's own error would only wander)
             count = min(max(count + round(step), self.lowest), self.top)
         return count
+
+
+def _log_of_complement(max_risk: Fraction) -> float:
+    """ln(1 - max_risk) in floats, from log1p where 1 - max_risk is near 1 (a target such
+    as 0.999999999 as a float is off by 1e-16, some 10**5 draws at 10**12 buckets)."""
+    if max_risk < Fraction(1, 2):
+        return math.log1p(-float(max_risk))
+    rest = 1 - max_risk
+    return math.log(float(rest)) if rest > Fraction(1, 10**300) else -690.0
+
+
+def _log_holds_error(answer: OccupancyRisk) -> float:
+    """About how far the answer's ln P(the rule holds) may be off: its relative bound on
+    P, or on 1 - P times 1 - P where that is smaller (P near 1)."""
+    fails = answer.fails
+    return min(answer.holds.relative_error_bound, fails.value * fails.relative_error_bound)
 
 
 def _top_draws(buckets: int, level: int, max_risk: Fraction) -> int:

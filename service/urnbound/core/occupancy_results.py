@@ -24,6 +24,7 @@ INCLUSION_EXCLUSION: Method = "inclusion-exclusion"
 SECOND_ORDER_INCLUSION_EXCLUSION: Method = "second-order inclusion-exclusion"
 RECURRENCE: Method = "recurrence"
 TWO_BUCKET_BINOMIAL: Method = "two-bucket binomial"
+POLYNOMIAL_POWER: Method = "polynomial power"
 
 
 @dataclass(frozen=True, slots=True)

@@ -22,19 +22,25 @@ Near the other end the count is written from its excess over the nearest filling
   B(z) = sum_i a!/(a+i)! z**i;
 
 and p_j = [w^j] B**N satisfies (j + 1) p_{j+1} = sum_i b_{i+1} ((i+1) N - (j - i)) p_{j-i},
-positive for j < N. Then ln P = ln n! - N ln b - n ln N + ln p_m (b the factorial above),
-at a precision that covers the size of ln n!.
+positive for j < N (past it some terms are negative; short runs are still used, the
+balls showing any cancellation). Then ln P = ln n! - N ln b - n ln N + ln p_m (b the
+factorial above), at a precision that covers the size of ln n!. Where the recurrence
+would take too many steps, p_m comes from B**N by squaring ball polynomials instead
+(all coefficients positive: nothing cancels at any gap).
 """
 
 from __future__ import annotations
 
-from flint import arb
+from flint import arb, arb_poly
 
 from urnbound.core.balls import log_factorial, precision
 from urnbound.core.occupancy_results import BELOW, Rule
 
 #: Largest number of inner steps (items times terms) a recurrence is run for.
 MAX_STEPS = 4_000
+#: Largest number of inner steps of the excess recurrence past a gap of N, where its
+#: terms may be negative (``steps_from_top``).
+SIGNED_MAX_STEPS = MAX_STEPS
 
 
 def steps_from_bottom(buckets: int, count: int, rule: Rule) -> int | None:
@@ -45,12 +51,18 @@ def steps_from_bottom(buckets: int, count: int, rule: Rule) -> int | None:
 
 
 def steps_from_top(buckets: int, count: int, rule: Rule) -> int | None:
-    """Inner steps of the excess recurrence, or ``None`` where it does not apply."""
+    """Inner steps of the excess recurrence, or ``None`` where it does not apply.
+
+    Past a gap of N some terms are negative: the recurrence is still an identity and the
+    balls still enclose its value, but terms may cancel, so it is used there only for
+    at most ``SIGNED_MAX_STEPS`` steps (a ball too wide to report is declined).
+    """
     gap = _gap(buckets, count, rule)
-    if gap < 0 or gap >= buckets:
+    if gap < 0:
         return None
     terms = min(rule.level - 1, gap) if rule.kind == BELOW else gap
-    return gap * max(1, terms)
+    steps = gap * max(1, terms)
+    return None if gap >= buckets and steps > SIGNED_MAX_STEPS else steps
 
 
 def _gap(buckets: int, count: int, rule: Rule) -> int:
@@ -97,8 +109,23 @@ def _choose_over_power(j: int, depth: int, size: arb) -> arb:
     return value
 
 
-def log_from_top(buckets: int, count: int, rule: Rule, prec: int) -> arb:
-    """ln P(every bucket obeys the rule) by the excess recurrence (module docstring).
+def power_pairs(buckets: int, count: int, rule: Rule) -> int | None:
+    """Coefficient products of [w^m] B**N by squaring (:func:`log_from_top` with
+    ``by_powers``): (m + 1)**2 per multiplication, bit_length(N) + popcount(N) - 2 of
+    them; ``None`` where the excess form does not apply (a negative gap)."""
+    gap = _gap(buckets, count, rule)
+    if gap < 0:
+        return None
+    multiplications = buckets.bit_length() + bin(buckets).count("1") - 2
+    return max(1, multiplications) * (gap + 1) ** 2
+
+
+def log_from_top(buckets: int, count: int, rule: Rule, prec: int, *,
+                 by_powers: bool = False) -> arb:
+    """ln P(every bucket obeys the rule) by the excess recurrence (module docstring), or
+    with ``by_powers`` from B**N formed by squaring ball polynomials truncated at degree m
+    (python-flint ``arb_poly``): every coefficient of B is positive, so no product or sum
+    cancels, at any gap.
 
     The ball is returned at the raised precision it was formed at: its absolute accuracy
     is what P's relative accuracy needs.
@@ -117,7 +144,8 @@ def log_from_top(buckets: int, count: int, rule: Rule, prec: int) -> arb:
             for i in range(1, gap + 1):
                 coefficients.append(coefficients[-1] / (rule.level + i))
             base = log_factorial(rule.level)
-        power = _power_coefficient(coefficients, buckets, gap)
+        power = (_power_by_squaring(coefficients, buckets, gap) if by_powers
+                 else _power_coefficient(coefficients, buckets, gap))
         return (log_factorial(count) - buckets * base - count * arb(buckets).log()
                 + power.log())
 
@@ -131,3 +159,20 @@ def _power_coefficient(coefficients: list[arb], buckets: int, degree: int) -> ar
             total += coefficients[i + 1] * ((i + 1) * buckets - (j - i)) * values[j - i]
         values.append(total / (j + 1))
     return values[degree]
+
+
+def _power_by_squaring(coefficients: list[arb], buckets: int, degree: int) -> arb:
+    """[w^degree] B(w)**N by binary powering of ball polynomials truncated at ``degree``."""
+    power = arb_poly(coefficients)
+    result: arb_poly | None = None
+    exponent = buckets
+    while True:
+        if exponent & 1:
+            result = power if result is None else (result * power).truncate(degree + 1)
+        exponent >>= 1
+        if not exponent:
+            break
+        power = (power * power).truncate(degree + 1)
+    assert result is not None  # N >= 1
+    found = result.coeffs()
+    return found[degree] if degree < len(found) else arb(0)
