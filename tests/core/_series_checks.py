@@ -15,6 +15,7 @@ from types import ModuleType
 import gmpy2
 import mpmath
 import pytest
+from hypothesis import strategies as st
 from tests.core._reference import (
     TEXT_ROUNDING,
     ln_of_text,
@@ -44,6 +45,16 @@ def counts_of(size: int) -> list[int]:
         if count < top:
             found.add(count)
     return sorted(found)
+
+
+@st.composite
+def spaces_and_counts(draw: st.DrawFn, past_ratio: bool = False) -> tuple[int, int]:
+    """A space of 2**9 to 2**8192 values (at least 1,024) and a count up to N / 129, or
+    (``past_ratio``) from just past N / 129 to N - 1."""
+    bits = draw(st.one_of(st.integers(10, 200), st.integers(200, 8192)))
+    size = draw(st.integers(max(1024, 2 ** (bits - 1)), 2**bits))
+    low, high = (size // RATIO_LIMIT + 1, size - 1) if past_ratio else (2, size // RATIO_LIMIT)
+    return size, draw(st.integers(low, high))
 
 
 def as_mpf(mp: mpmath.ctx_mp.MPContext, value: gmpy2.mpfr) -> mpmath.mpf:

@@ -16,7 +16,6 @@ from collections.abc import Sequence
 import mpmath
 import pytest
 from hypothesis import HealthCheck, example, given, settings
-from hypothesis import strategies as st
 from tests.core._reference import high_precision_risk
 from tests.core._series_checks import (
     SIZES,
@@ -27,6 +26,7 @@ from tests.core._series_checks import (
     assert_single_answers_outside,
     counts_of,
     record_single_answers,
+    spaces_and_counts,
 )
 
 import urnbound.core.series_pairs as series_pairs_module
@@ -117,14 +117,10 @@ def test_every_batch_value_is_within_its_proven_bound(size: int) -> None:
 
 
 @settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.too_slow])
-@given(bits=st.one_of(st.integers(10, 200), st.integers(200, 8192)), data=st.data())
-@example(bits=64, data=None)
-def test_random_spaces_and_counts_match_the_reference(bits: int, data: st.DataObject) -> None:
-    if data is None:  # the explicit example: 2**64 and its largest count in the regime
-        size, count = 2**64, 2**64 // RATIO_LIMIT
-    else:
-        size = data.draw(st.integers(max(1024, 2 ** (bits - 1)), 2**bits))
-        count = data.draw(st.integers(2, size // RATIO_LIMIT))
+@given(case=spaces_and_counts())
+@example(case=(2**64, 2**64 // RATIO_LIMIT))  # 2**64 and its largest count in the regime
+def test_random_spaces_and_counts_match_the_reference(case: tuple[int, int]) -> None:
+    size, count = case
     if (batch_key(size, count, 0) or ("", 0))[0] == HORNER:
         assert_within_proven_bounds(size, count)
     (pair,) = series_pairs(size, [count], exact_digit_limit=0)

@@ -14,7 +14,6 @@ from fractions import Fraction
 
 import pytest
 from hypothesis import HealthCheck, example, given, settings
-from hypothesis import strategies as st
 from tests.core._reference import high_precision_risk
 from tests.core._series_checks import (
     SIZES,
@@ -23,6 +22,7 @@ from tests.core._series_checks import (
     assert_order_with_repeats,
     assert_single_answers_outside,
     counts_of,
+    spaces_and_counts,
 )
 
 from urnbound.core.pairwise import collision_risk
@@ -75,14 +75,10 @@ def test_batch_answers_match_the_reference(size: int) -> None:
 
 
 @settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
-@given(bits=st.one_of(st.integers(10, 200), st.integers(200, 8192)), data=st.data())
-@example(bits=64, data=None)
-def test_random_spaces_and_counts_match_the_reference(bits: int, data: st.DataObject) -> None:
-    if data is None:  # the explicit example: 2**64 and its largest count in the regime
-        size, count = 2**64, 2**64 // RATIO_LIMIT
-    else:
-        size = data.draw(st.integers(max(1024, 2 ** (bits - 1)), 2**bits))
-        count = data.draw(st.integers(2, size // RATIO_LIMIT))
+@given(case=spaces_and_counts())
+@example(case=(2**64, 2**64 // RATIO_LIMIT))  # 2**64 and its largest count in the regime
+def test_random_spaces_and_counts_match_the_reference(case: tuple[int, int]) -> None:
+    size, count = case
     stirling = stirling_terms(size)
     assert stirling is not None
     assert_within_bound(size, count, RiskBatch(size, horner_terms(size, count), stirling))

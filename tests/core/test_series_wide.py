@@ -13,9 +13,8 @@ from __future__ import annotations
 import mpmath
 import pytest
 from hypothesis import HealthCheck, example, given, settings
-from hypothesis import strategies as st
 from tests.core._reference import high_precision_risk
-from tests.core._series_checks import as_mpf, record_single_answers
+from tests.core._series_checks import as_mpf, record_single_answers, spaces_and_counts
 from tests.core.test_series_pairs import assert_matches_reference
 
 import urnbound.core.series_pairs as series_pairs_module
@@ -105,14 +104,10 @@ def test_wide_answers_match_the_reference(size: int, monkeypatch: pytest.MonkeyP
 
 
 @settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
-@given(bits=st.one_of(st.integers(11, 200), st.integers(200, 8192)), data=st.data())
-@example(bits=64, data=None)
-def test_random_wide_counts_match_the_reference(bits: int, data: st.DataObject) -> None:
-    if data is None:  # the explicit example: 2**64 and the first count past N / 129
-        size, count = 2**64, 2**64 // RATIO_LIMIT + 1
-    else:
-        size = data.draw(st.integers(max(1024, 2 ** (bits - 1)), 2**bits))
-        count = data.draw(st.integers(size // RATIO_LIMIT + 1, size - 1))
+@given(case=spaces_and_counts(past_ratio=True))
+@example(case=(2**64, 2**64 // RATIO_LIMIT + 1))  # 2**64, the first count past N / 129
+def test_random_wide_counts_match_the_reference(case: tuple[int, int]) -> None:
+    size, count = case
     if rest_terms(size - count) is not None:
         assert_within_proven_bounds(size, count)
     (pair,) = series_pairs(size, [count], exact_digit_limit=0)
