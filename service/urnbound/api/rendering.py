@@ -34,7 +34,11 @@ class CachedAnswer:
 
 def json_body(document: Mapping[str, object]) -> bytes:
     """Serialize an answer as strict JSON (no NaN or Infinity), compactly."""
-    return json.dumps(document, allow_nan=False, separators=(",", ":")).encode()
+    return _BODY_JSON.encode(document).encode()
+
+
+#: ``json.dumps(..., allow_nan=False, separators=(",", ":"))``, built once.
+_BODY_JSON = json.JSONEncoder(allow_nan=False, separators=(",", ":"))
 
 
 @dataclass(frozen=True, slots=True)

@@ -29,7 +29,14 @@ from urnbound.core.exact import (
 from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT, MAX_FRACTION_DIGITS, MAX_SIZE_BITS
 from urnbound.core.precision import Real
 from urnbound.core.regimes import choose_method, exact_cost_digits
-from urnbound.core.results import ASYMPTOTIC, EXACT, CollisionRisk, Magnitude, RelatedFigures
+from urnbound.core.results import (
+    ASYMPTOTIC,
+    EXACT,
+    AnswerFigures,
+    CollisionRisk,
+    Magnitude,
+    RelatedFigures,
+)
 
 #: Computations of one figure, doubling its bits each time, before its float is given up.
 ROUNDING_TRIES = 4
@@ -162,12 +169,36 @@ def related_figures(size: int, count: int, risk: CollisionRisk) -> RelatedFigure
     """
     distinct, duplicates = _expected_distinct_and_duplicates(size, count)
     return RelatedFigures(
-        expected_colliding_pairs=magnitude_of_fraction(count * (count - 1), 2 * size),
+        expected_colliding_pairs=expected_pairs(size, count),
         expected_distinct=distinct,
         expected_duplicates=duplicates,
         reciprocal_risk=_reciprocal_risk(size, count, risk),
         entropy_bits=mp.log2_of_int(size),
     )
+
+
+def answer_figures(size: int, count: int, risk: CollisionRisk) -> AnswerFigures:
+    """The figures of :func:`related_figures` that a collision answer reports, the same ones.
+
+    The expected number of distinct values is not reported, only tested: its float still
+    decides the precision of the expected duplicates (as in :func:`related_figures`), but
+    its decimal text and logarithm are not formed.
+
+    >>> a = answer_figures(2**64, 10**9, collision_risk(2**64, 10**9))
+    >>> r = related_figures(2**64, 10**9, collision_risk(2**64, 10**9))
+    >>> a.expected_duplicates == r.expected_duplicates, a.reciprocal_risk == r.reciprocal_risk
+    (True, True)
+    """
+    return AnswerFigures(
+        expected_colliding_pairs=expected_pairs(size, count),
+        expected_duplicates=_expected_duplicates(size, count),
+        reciprocal_risk=_reciprocal_risk(size, count, risk),
+    )
+
+
+def expected_pairs(size: int, count: int) -> Magnitude:
+    """C(n, 2) / N, correctly rounded: n (n - 1) / (2 N)."""
+    return magnitude_of_fraction(count * (count - 1), 2 * size)
 
 
 def _reciprocal_risk(size: int, count: int, risk: CollisionRisk) -> Magnitude | None:
@@ -239,24 +270,47 @@ def _expected_distinct_and_duplicates(size: int, count: int) -> tuple[Magnitude,
     Exact (and correctly rounded) when N**n is small, or when no rounding is decided:
     for N a power of two the figures are binary fractions, sometimes a float midpoint.
     """
+    distinct, duplicates = _expected_counts(size, count, with_distinct=True)
+    if distinct is None:  # not met: with_distinct reports it
+        raise NoConvergence("the expected number of distinct values was not reported")
+    return distinct, duplicates
+
+
+def _expected_duplicates(size: int, count: int) -> Magnitude:
+    """n minus N (1 - (1 - 1/N)**n), as :func:`_expected_distinct_and_duplicates` has it."""
+    return _expected_counts(size, count, with_distinct=False)[1]
+
+
+def _expected_counts(size: int, count: int,
+                     with_distinct: bool) -> tuple[Magnitude | None, Magnitude]:
+    """Expected distinct values (``None`` unless ``with_distinct``) and duplicates.
+
+    A precision is taken only when both floats are decided there (``interval_float``
+    decides exactly when ``bounded_magnitude`` reports), whether or not the distinct
+    values are reported, so the duplicates are the same either way.
+    """
     if count <= 1 or size == 1 or exact_cost_digits(size, count) <= EXACT_FIGURES_DIGITS:
-        return _exact_figures(size, count)
+        return _exact_figures(size, count, with_distinct)
     if _saturated(size, count):
         return _saturated_figures(size, count)
 
-    def attempt(prec: int) -> tuple[Magnitude, Magnitude] | None:
+    def attempt(prec: int) -> tuple[Magnitude | None, Magnitude] | None:
         if _ratio_gap(size, count) >= MIN_SERIES_GAP:
             values = _figures_by_series(size, count, prec)
         else:
             values = _figures_by_closed_form(size, count, prec)
         (distinct, distinct_error), (duplicates, duplicates_error) = values
-        first = reporting.bounded_magnitude(distinct, distinct_error)
+        if reporting.interval_float(distinct, distinct_error) is None:
+            return None
         second = reporting.bounded_magnitude(duplicates, duplicates_error)
-        return None if first is None or second is None else (first, second)
+        if second is None:
+            return None
+        first = reporting.bounded_magnitude(distinct, distinct_error) if with_distinct else None
+        return first, second
 
     found = mp.first_decided(attempt, FIGURES_PREC, _last_try_bits(FIGURES_PREC))
     if found is None and exact_cost_digits(size, count) <= FALLBACK_EXACT_DIGITS:
-        return _exact_figures(size, count)
+        return _exact_figures(size, count, with_distinct)
     if found is None:
         found = mp.first_decided(attempt, 2 * _last_try_bits(FIGURES_PREC), WIDEST_BITS)
     if found is None:
@@ -297,13 +351,16 @@ def _saturated_figures(size: int, count: int) -> tuple[Magnitude, Magnitude]:
 EXACT_FIGURES_DIGITS = 5_000
 
 
-def _exact_figures(size: int, count: int) -> tuple[Magnitude, Magnitude]:
+def _exact_figures(size: int, count: int,
+                   with_distinct: bool = True) -> tuple[Magnitude | None, Magnitude]:
     if count <= 1 or size == 1:
         distinct = min(count, size)
         return magnitude_of_fraction(distinct, 1), magnitude_of_fraction(count - distinct, 1)
     numerator, denominator = expected_distinct(size, count)
-    return (magnitude_of_fraction(numerator, denominator),
-            magnitude_of_fraction(count * denominator - numerator, denominator))
+    duplicates = magnitude_of_fraction(count * denominator - numerator, denominator)
+    if not with_distinct:
+        return None, duplicates
+    return magnitude_of_fraction(numerator, denominator), duplicates
 
 
 #: The binomial series is used when n/N < 2**-MIN_SERIES_GAP (then it needs few terms).

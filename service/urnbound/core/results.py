@@ -82,6 +82,20 @@ class RelatedFigures:
 
 
 @dataclass(frozen=True, slots=True)
+class AnswerFigures:
+    """The related figures a collision answer reports, as :class:`RelatedFigures` has them.
+
+    :ivar expected_colliding_pairs: C(n, 2) / N, exact then correctly rounded.
+    :ivar expected_duplicates: n minus the expected number of distinct values.
+    :ivar reciprocal_risk: 1 / P(collision), ``None`` when the risk is zero.
+    """
+
+    expected_colliding_pairs: Magnitude
+    expected_duplicates: Magnitude
+    reciprocal_risk: Magnitude | None
+
+
+@dataclass(frozen=True, slots=True)
 class LengthAnswer:
     """Shortest identifier length over an alphabet that keeps the risk in budget.
 

@@ -27,8 +27,8 @@ from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT
 from urnbound.core.occupancy import occupancy_risk, reciprocal
 from urnbound.core.occupancy_figures import expected_sets
 from urnbound.core.occupancy_results import BELOW, Rule
-from urnbound.core.pairwise import collision_risk, related_figures
-from urnbound.core.results import CollisionRisk, RelatedFigures
+from urnbound.core.pairwise import answer_figures, collision_risk
+from urnbound.core.results import AnswerFigures, CollisionRisk
 from urnbound.core.ticks import tick_risk
 from urnbound.domain.inputs import Inputs
 from urnbound.domain.parameters import COUNT, MULTIPLICITY, SPACE
@@ -59,7 +59,7 @@ class CollisionReport:
     space: IdSpace
     count: int
     risk: CollisionRisk
-    figures: RelatedFigures
+    figures: AnswerFigures
 
 
 def collision_report(
@@ -72,7 +72,7 @@ def collision_report(
     'exact'
     """
     risk = collision_risk(space.size, count, exact_digit_limit=exact_digit_limit)
-    return CollisionReport(space, count, risk, related_figures(space.size, count, risk))
+    return CollisionReport(space, count, risk, answer_figures(space.size, count, risk))
 
 
 def _answer(inputs: Inputs, context: Context) -> Answer:
