@@ -38,6 +38,12 @@ WORST: list[tuple[str, str]] = [
     ("/v1/curves?alphabet=base64&length=22&from=1&to=1e30&points=500", "the same, an alphabet"),
     ("/v1/curves?size=1023&from=1&to=1023&points=500&spacing=linear",
      "500 exact risks of the largest space always exact"),
+    ("/v1/budgets?tick=PT1S&random_bits=64&rate=5.5e18&growth=1.5&horizon=P365D"
+     "&max_risk=0.5&points=500", "a time-ordered layout near half full: ~130 series terms"),
+    ("/v1/budgets?tick=PT60S&random_bits=2&rate=0.00125&per=PT1S&horizon=P365D"
+     "&max_risk=0.99&points=454&growth=0.104", "a falling rate: the search to its end"),
+    ("/v1/budgets?tick=PT60S&random_bits=7422&rate=0.00172&per=P36500D&horizon=P3650D"
+     "&max_risk=1e-9&points=191&growth=2.89", "a vast growing layout (was 56 s)"),
 ]
 
 
