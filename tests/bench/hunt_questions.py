@@ -5,22 +5,19 @@ Run: ``python tests/bench/hunt_questions.py [seed] [seconds]`` (not collected by
 default seed 1, 120 s). Draws collisions, lengths, capacity, bits, rates, guessing,
 prefixes, reviews, budgets and curves questions with their figures spread on a log scale
 over the accepted ranges (edges included: risks next to 0 and 1, counts up to the space,
-spaces up to 2^8192), asks each of the product app in process (answer cache off, access log
-off), and prints every 5xx with its query, then the 15 costliest requests by CPU time.
+spaces up to 2^8192) and asks them through ``hunting.hunt``: every 5xx is printed with its
+query, then the 15 costliest requests by CPU time.
 A 4xx is an answer too (a refusal naming the field); only 5xx count as failures.
 """
 
 from __future__ import annotations
 
-import heapq
-import logging
 import math
 import random
 import sys
-import time
 from collections.abc import Callable
 
-from urnbound.app import create_app
+from hunting import hunt
 
 RISKS = ("0.5", "1e-6", "1e-18", "1e-300", "0.999999999999", "0.99", "1e-9")
 DURATIONS = ("PT1S", "PT1H", "P1D", "P30D", "P365D", "P3650D", "P36500D")
@@ -167,34 +164,11 @@ QUESTIONS: tuple[Callable[[Draw], str], ...] = (
     collisions, lengths, capacity, bits, rates, guessing, prefixes, reviews, budgets, curves)
 
 
-def main() -> int:
-    seed = int(sys.argv[1]) if len(sys.argv) > 1 else 1
-    seconds = float(sys.argv[2]) if len(sys.argv) > 2 else 120.0
-    logging.disable(logging.CRITICAL)  # the 5xx are printed below, without tracebacks
-    client = create_app({"cache_entries": 0, "access_log": False}).test_client()
-    draw = Draw(random.Random(seed))
-    costliest: list[tuple[float, str, int]] = []
-    statuses: dict[int, int] = {}
-    asked, failed = 0, 0
-    end = time.monotonic() + seconds
-    while time.monotonic() < end:
-        path = draw.rng.choice(QUESTIONS)(draw)
-        start = time.process_time()
-        response = client.get(path)
-        cost = (time.process_time() - start) * 1e3
-        asked += 1
-        statuses[response.status_code] = statuses.get(response.status_code, 0) + 1
-        if response.status_code >= 500:
-            failed += 1
-            print(f"{response.status_code} {path}", flush=True)
-        heapq.heappush(costliest, (cost, path, response.status_code))
-        if len(costliest) > 15:
-            heapq.heappop(costliest)
-    print(f"{asked} requests, {failed} failures (5xx); statuses {dict(sorted(statuses.items()))}")
-    for cost, path, status in sorted(costliest, reverse=True):
-        print(f"{cost:8.1f} ms  {status}  {path}")
-    return 1 if failed else 0
+def question(rng: random.Random) -> str:
+    """One random request path with its query."""
+    draw = Draw(rng)
+    return rng.choice(QUESTIONS)(draw)
 
 
 if __name__ == "__main__":
-    sys.exit(main())
+    sys.exit(hunt(question, sys.argv))
