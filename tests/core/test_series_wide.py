@@ -1,5 +1,8 @@
 """The wide batch (counts past N/129, or past the Horner sums' reach) against mpmath.
 
+The same for a budget's risks alone (``relative=True``): L within 2**-118 |L|, the risk
+within RELATIVE_RISK_BOUND, each bound no wider than the single answer's.
+
 Every L is held against ln P(no collision) from mpmath's log-gamma in a private context
 of 4 log2 N + 200 bits (tests/core/_reference.py): within d = 2**-120 absolutely, the risk
 within RISK_BOUND and the complement within COMPLEMENT_BOUND relatively (the bounds the
@@ -14,17 +17,26 @@ import mpmath
 import pytest
 from hypothesis import HealthCheck, example, given, settings
 from tests.core._reference import high_precision_risk
-from tests.core._series_checks import as_mpf, record_single_answers, spaces_and_counts
+from tests.core._series_checks import (
+    as_mpf,
+    assert_magnitude,
+    record_single_answers,
+    spaces_and_counts,
+)
 from tests.core.test_series_pairs import assert_matches_reference
 
 import urnbound.core.series_pairs as series_pairs_module
+import urnbound.core.series_risk as series_risk_module
 from urnbound.core.pairwise import collision_risk
 from urnbound.core.series_pairs import EXP_LOG_BITS, WIDE, batch_key, series_pairs
-from urnbound.core.series_risk import RATIO_LIMIT, ReportedBatch
+from urnbound.core.series_risk import RATIO_LIMIT, ReportedBatch, SeriesRisk, series_risks
 from urnbound.core.series_wide import (
     COMPLEMENT_BOUND,
     LOG_BITS,
+    RELATIVE_BITS,
+    RELATIVE_RISK_BOUND,
     RISK_BOUND,
+    RISK_PREC,
     WideLogs,
     rest_terms,
     wide_prec,
@@ -163,3 +175,69 @@ def test_the_bounds_are_the_stated_ones() -> None:
     assert RISK_BOUND * 2**110 == 1
     assert COMPLEMENT_BOUND * 2**128 == 2 * 2**8 + 6
     assert rest_terms(1) is None and rest_terms(2**126) == 0
+
+
+def assert_relative_within_proven_bound(size: int, count: int) -> None:
+    """Risks alone: |L~ - L| <= 2**-118 |L| and the risk within RELATIVE_RISK_BOUND."""
+    logs = WideLogs(size, RISK_PREC, relative=True)
+    risks = ReportedBatch(RELATIVE_RISK_BOUND, RISK_PREC)
+    log_no = logs.log_no_collision(count)
+    assert log_no is not None
+    ref = high_precision_risk(size, count)  # mpmath log-gamma at 4 log2 N + 200 bits
+    mp = ref.mp
+    gap = abs(as_mpf(mp, log_no) - ref.ln_no_collision)
+    assert gap <= mp.mpf(2) ** -RELATIVE_BITS * abs(ref.ln_no_collision)
+    with risks.ctx:
+        risk = as_mpf(mp, risks.risk(log_no))
+    assert abs(risk / mp.exp(ref.ln_risk) - 1) <= fraction(mp, RELATIVE_RISK_BOUND)
+
+
+def assert_risk_no_worse_than_single(size: int, risk: SeriesRisk) -> None:
+    """A budget's risk: reference held, its bound at most the single answer's."""
+    single = collision_risk(size, risk.count, exact_digit_limit=0)
+    assert risk.collision.value == single.collision.value
+    assert risk.relative_error_bound <= single.collision.relative_error_bound
+    ref = high_precision_risk(size, risk.count)
+    assert_magnitude(ref.mp, risk.collision, ref.ln_risk, risk.relative_error_bound)
+
+
+@pytest.mark.parametrize("size", SIZES, ids=lambda size: f"{size.bit_length()}-bits")
+def test_risks_alone_are_within_their_proven_bound(
+    size: int, monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    counts = [c for c in wide_counts(size) if RATIO_LIMIT * c > size]
+    assert len(counts) >= 6
+    for count in counts:
+        assert_relative_within_proven_bound(size, count)
+    called = record_single_answers(monkeypatch, series_risk_module)
+    risks = series_risks(size, counts, exact_digit_limit=0)
+    assert called == []
+    for risk in risks:
+        assert isinstance(risk, SeriesRisk) and risk.method == "asymptotic"
+        assert 5e-20 < risk.relative_error_bound < 5.0000001e-20
+        assert_risk_no_worse_than_single(size, risk)
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(case=spaces_and_counts(past_ratio=True))
+@example(case=(1024, 8))  # the least risk past N / 129 (about 2.7e-2)
+def test_random_risks_alone_match_the_reference(case: tuple[int, int]) -> None:
+    size, count = case
+    if rest_terms(size - count) is not None:
+        assert_relative_within_proven_bound(size, count)
+    (risk,) = series_risks(size, [count], exact_digit_limit=0)
+    ref = high_precision_risk(size, count)
+    assert_magnitude(ref.mp, risk.collision, ref.ln_risk, risk.relative_error_bound)
+
+
+def test_budget_counts_up_to_n_plus_one(monkeypatch: pytest.MonkeyPatch) -> None:
+    size = 2**64
+    counts = [size // 128, size - 300, size - 2, size - 1, size, size + 1]
+    called = record_single_answers(monkeypatch, series_risk_module)
+    risks = series_risks(size, counts, exact_digit_limit=0)
+    assert called == counts[2:]
+    for risk in risks[:2]:
+        assert isinstance(risk, SeriesRisk)
+        assert_risk_no_worse_than_single(size, risk)
+    for count, risk in zip(counts[2:], risks[2:], strict=True):
+        assert risk == collision_risk(size, count, exact_digit_limit=0)

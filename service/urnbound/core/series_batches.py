@@ -14,6 +14,10 @@ from typing import TypeVar
 
 from urnbound.core.pairwise import check_question
 
+#: The two kinds of batch: the power series of ``series_risk``, the logarithms of
+#: ``series_wide``.
+HORNER, WIDE = "horner", "wide"
+
 A = TypeVar("A")
 K = TypeVar("K", bound=Hashable)
 

@@ -63,7 +63,7 @@ from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT
 from urnbound.core.pairwise import collision_risk
 from urnbound.core.regimes import choose_method
 from urnbound.core.results import ASYMPTOTIC, CollisionRisk, Magnitude
-from urnbound.core.series_batches import batched_answers
+from urnbound.core.series_batches import HORNER, WIDE, batched_answers
 from urnbound.core.series_risk import (
     PREC,
     RATIO_LIMIT,
@@ -94,9 +94,6 @@ EXP_LOG_BITS = 20
 #: Bits of the mantissa 10**f of a complement's text formed from its logarithm.
 MANTISSA_PREC = 128
 _LN10 = math.log(10)
-#: The two kinds of batch: the power series of ``series_risk``, the logarithms of
-#: ``series_wide``.
-HORNER, WIDE = "horner", "wide"
 
 
 def log_bits(size: int, count: int) -> int:

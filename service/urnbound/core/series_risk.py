@@ -5,8 +5,10 @@ risk itself (not its complement). ``pairwise.collision_risk`` certifies each cou
 own (about 35 us each); here every count in the regime below is evaluated with MPFR
 (gmpy2) at ``PREC`` bits, rounding to nearest, so that each operation is off by at most
 u = 2**-PREC relative, and one relative bound e on the risk, proven for the whole batch,
-serves every count. A count whose float is undecided at that bound, and every count
-outside the regime, takes ``collision_risk``.
+serves every count. Counts past N/129 (n < N, M = N - n large enough for its Stirling
+terms) come from ``series_wide.WideLogs``, one logarithm each at RISK_PREC bits, each risk
+within RELATIVE_RISK_BOUND = 2**-117 (proven there). A count whose float is undecided at
+its batch's bound, and every other count, takes ``collision_risk``.
 
 Regime: the expansion's counts (``regimes.choose_method`` gives ``asymptotic``, so
 N >= 1024 and 2 <= n) with 129 n <= N, that is x = n/N < 2**-7.
@@ -61,7 +63,6 @@ the float, or for a risk of 1/2 and more log1p(-q) / ln 10 from the complement q
 
 from __future__ import annotations
 
-import functools
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -75,7 +76,14 @@ from urnbound.core.limits import DEFAULT_EXACT_DIGIT_LIMIT
 from urnbound.core.pairwise import collision_risk
 from urnbound.core.regimes import choose_method
 from urnbound.core.results import ASYMPTOTIC, CollisionRisk, Magnitude, Method
-from urnbound.core.series_batches import batched_answers
+from urnbound.core.series_batches import HORNER, WIDE, batched_answers
+from urnbound.core.series_wide import (
+    RELATIVE_RISK_BOUND,
+    RISK_PREC,
+    WideLogs,
+    rest_terms,
+    stirling_coefficient,
+)
 
 #: Working precision of the batch, in bits (u = 2**-PREC).
 PREC = 128
@@ -126,19 +134,31 @@ def series_risks(
     >>> [r.method for r in risks]
     ['asymptotic', 'asymptotic', 'exact']
     """
-    def key_of(count: int) -> int | None:
-        return PREC if _in_regime(size, count, exact_digit_limit) else None
+    def key_of(count: int) -> str | None:
+        return batch_kind(size, count, exact_digit_limit)
+
+    def batch(kind: str, group: list[int]) -> dict[int, SeriesRisk]:
+        return _batch(size, group) if kind == HORNER else _wide_batch(size, group)
 
     def single(count: int) -> CollisionRisk:
         return collision_risk(size, count, exact_digit_limit=exact_digit_limit)
 
-    return batched_answers(size, counts, key_of, lambda _prec, group: _batch(size, group),
-                           single)
+    return batched_answers(size, counts, key_of, batch, single)
 
 
-def _in_regime(size: int, count: int, exact_digit_limit: int) -> bool:
-    return (count >= 2 and RATIO_LIMIT * count <= size
-            and choose_method(size, count, exact_digit_limit) == ASYMPTOTIC)
+def batch_kind(size: int, count: int, exact_digit_limit: int) -> str | None:
+    """HORNER (129 n <= N), WIDE (past it: ``series_wide``), or ``None`` (alone).
+
+    >>> batch_kind(2**64, 10**9, 0), batch_kind(2**64, 2**63, 0), batch_kind(2**64, 2**64, 0)
+    ('horner', 'wide', None)
+    """
+    if count < 2 or choose_method(size, count, exact_digit_limit) != ASYMPTOTIC:
+        return None
+    if RATIO_LIMIT * count <= size:
+        return HORNER
+    if count < size and rest_terms(size - count) is not None:
+        return WIDE
+    return None
 
 
 def horner_terms(size: int, largest: int, prec: int = PREC) -> int:
@@ -170,13 +190,6 @@ def stirling_terms(size: int, prec: int = PREC) -> int | None:
     return None
 
 
-@functools.cache
-def stirling_coefficient(j: int) -> Fraction:
-    """c_j = B_2j / (2j (2j - 1)), the j-th coefficient of the Stirling series R(z)."""
-    numerator, denominator = libmp.bernfrac(2 * j)
-    return Fraction(int(numerator), int(denominator) * 2 * j * (2 * j - 1))
-
-
 def risk_bound(terms: int, prec: int = PREC) -> Fraction:
     """e = (8K + 32) 2**-prec, the relative bound of every risk of a batch of K terms."""
     return Fraction(8 * terms + 32, 2**prec)
@@ -192,6 +205,20 @@ def _batch(size: int, ordered: list[int]) -> dict[int, SeriesRisk]:
     with batch.ctx:  # the current context (of this thread): what ``digits`` rounds by
         for count in ordered:
             collision = batch.magnitude(count)
+            if collision is not None:
+                found[count] = SeriesRisk(count, collision, ASYMPTOTIC, batch.text_bound)
+    return found
+
+
+def _wide_batch(size: int, ordered: list[int]) -> dict[int, SeriesRisk]:
+    """count -> risk past N/129, L from ``series_wide.WideLogs`` to a relative bound."""
+    logs = WideLogs(size, RISK_PREC, relative=True)
+    batch = ReportedBatch(RELATIVE_RISK_BOUND, RISK_PREC)
+    found = {}
+    with batch.ctx:
+        for count in ordered:
+            log_no = logs.log_no_collision(count)
+            collision = None if log_no is None else batch.risk_magnitude(log_no)
             if collision is not None:
                 found[count] = SeriesRisk(count, collision, ASYMPTOTIC, batch.text_bound)
     return found

@@ -45,17 +45,28 @@ Bounds of what is reported from L~ (``series_pairs.PairBatch``; w = 2**-128):
   off by at most (d + 2.01 u (n + 1)) / ln 10 <= 1.02 d / ln 10) and a mantissa
   10**frac(t) at 128 bits (5.8w, ``series_pairs``): within exp(1.02 d + 5.8 w) - 1. Both
   are at most COMPLEMENT_BOUND = 2d + 6w.
+
+Risks alone (budgets, ``series_risk``). A risk without its complement needs L only to a
+relative 2**-RELATIVE_BITS: at p = RISK_PREC bits the roundings above come to some
+16 u n, and past N/129 |L| > (n - 1) / 258, so below 2**-(RISK_PREC - 14) |L|; the batch
+checks r <= 2**-(RELATIVE_BITS + 1) |mid| at each count (so r <= 2**-RELATIVE_BITS |L|;
+the conversion rounds by at most u |L~|). With |L~ - L| = delta, the risk moves by
+e^L |expm1(delta)| / (1 - e^L) <= (e^|delta| - 1) / (e^|L| - 1) <= |delta| / |L| (the
+numerator is convex in |delta| and equal to the denominator at |L|), so the risk
+-expm1(L~), rounded once, is within 2**-RELATIVE_BITS + 3u < RELATIVE_RISK_BOUND =
+2**-(RELATIVE_BITS - 1), for every |L| (no floor on |L| is needed here).
 """
 
 from __future__ import annotations
 
+import functools
 from fractions import Fraction
 
 import gmpy2
 from flint import arb, fmpq
+from mpmath import libmp
 
 from urnbound.core.balls import precision
-from urnbound.core.series_risk import stirling_coefficient
 
 #: d = 2**-LOG_BITS: the absolute bound on every L of the batch.
 LOG_BITS = 120
@@ -71,6 +82,18 @@ LOG_FLOOR_BITS = 9
 RISK_BOUND = Fraction(1, 2 ** (LOG_BITS - 10))
 #: E = 2d + 6 2**-128, the relative bound of every complement (and of its text's value).
 COMPLEMENT_BOUND = Fraction(2, 2**LOG_BITS) + Fraction(6, 2**128)
+#: Risks alone: L within 2**-RELATIVE_BITS |L|, at RISK_PREC bits.
+RELATIVE_BITS = 118
+RISK_PREC = 192
+#: The relative bound of every risk formed alone (module docstring).
+RELATIVE_RISK_BOUND = Fraction(1, 2 ** (RELATIVE_BITS - 1))
+
+
+@functools.cache
+def stirling_coefficient(j: int) -> Fraction:
+    """c_j = B_2j / (2j (2j - 1)), the j-th coefficient of the Stirling series R(z)."""
+    numerator, denominator = libmp.bernfrac(2 * j)
+    return Fraction(int(numerator), int(denominator) * 2 * j * (2 * j - 1))
 
 
 def wide_prec(count: int) -> int:
@@ -104,31 +127,44 @@ class WideLogs:
     """L = ln P(no collision) at counts of one space, each at the batch's precision.
 
     :param size: N >= 1024.
-    :param prec: p (``wide_prec`` of the batch's largest count, or more).
+    :param prec: p (``wide_prec`` of the batch's largest count, or more; RISK_PREC when
+        ``relative``).
+    :param relative: L within 2**-RELATIVE_BITS |L| (risks alone) instead of within d.
     """
 
-    def __init__(self, size: int, prec: int) -> None:
+    def __init__(self, size: int, prec: int, relative: bool = False) -> None:
         self.size = size
         self.prec = prec
+        self.relative = relative
         self.ctx = gmpy2.context(precision=prec, emin=gmpy2.get_emin_min(),
                                  emax=gmpy2.get_emax_max())
         self.big = arb(size)  # exact, as every integer made a ball here
-        self.truncation = arb(0, arb(2) ** -(LOG_BITS + 8))
-        self.largest_radius = arb(2) ** -(LOG_BITS + 1)
-        self.floor = arb(2) ** -LOG_FLOOR_BITS + arb(2) ** -LOG_BITS
+        with precision(prec):  # powers of two exact; 2**-9 + d within one ball
+            self.truncation = arb(0, arb(2) ** -(LOG_BITS + 8))
+            self.largest_radius = arb(2) ** -(LOG_BITS + 1)
+            self.floor = arb(2) ** -LOG_FLOOR_BITS + arb(2) ** -LOG_BITS
+            self.relative_radius = arb(2) ** -(RELATIVE_BITS + 1)
 
     def log_no_collision(self, count: int) -> gmpy2.mpfr | None:
         """L~ within d of L at ``count`` (2 <= count < N, ``rest_terms`` defined), or
-        ``None`` when the ball is wider than d / 2 or |L| may be below 2**-9."""
+        ``None`` when the ball is wider than d / 2 or |L| may be below 2**-9 (relative:
+        within 2**-RELATIVE_BITS |L|, or ``None`` when the ball is wider)."""
         terms = rest_terms(self.size - count)
         if terms is None:
             return None
         with precision(self.prec):
             ball = self.ball(count, terms)
-            if not (ball.rad() <= self.largest_radius and abs(ball.mid()) >= self.floor):
+            if not self.narrow(ball):
                 return None
             mantissa, exponent = ball.mid().man_exp()
         return self.ctx.mul_2exp(gmpy2.mpz(int(mantissa)), int(exponent))
+
+    def narrow(self, ball: arb) -> bool:
+        """Whether the ball meets the batch's check (module docstring)."""
+        middle = abs(ball.mid())
+        if self.relative:
+            return bool(ball.rad() <= middle * self.relative_radius)
+        return bool(ball.rad() <= self.largest_radius and middle >= self.floor)
 
     def ball(self, count: int, terms: int) -> arb:
         """L as a ball at flint's current precision (module docstring)."""
