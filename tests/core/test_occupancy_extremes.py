@@ -245,3 +245,18 @@ def test_exact_counts_of_three_buckets_against_multinomial_sums() -> None:
                        for i in range(count + 1) for j in range(count - i + 1)
                        if allowed(i) and allowed(j) and allowed(count - i - j))
         assert allowed_outcomes(3, count, rule).allowed == expected
+
+
+def test_coverage_at_exactly_a_uses_each_is_exact_without_a_long_reduction() -> None:
+    # 686 buckets, 25,382 = 37 * 686 draws, each bucket used at least 37 times: only the
+    # fillings with exactly 37 each, n! / (37!^686 686^n), about 1.8e-810. The exact answer
+    # took 85 ms (Python's gcd and division of 2^239,000-size integers); log10 from
+    # mpmath's log-gamma at 4,000 bits.
+    buckets, level = 686, 37
+    count = buckets * level
+    answer = occupancy_risk(buckets, count, Rule(AT_LEAST, level))
+    assert answer.method == "exact"
+    expected = (WORK.loggamma(count + 1) - buckets * WORK.loggamma(level + 1)
+                - count * WORK.log(buckets)) / WORK.log(10)
+    assert abs(_log10_of_text(answer.holds.decimal) - expected) < WORK.mpf(10) ** -18
+    assert answer.fails.decimal == "1.0000000000000000000e0"

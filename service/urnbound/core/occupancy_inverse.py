@@ -282,9 +282,10 @@ class LoadFamily(_EngineFamily):
         target (the guess is then usually the answer or next to it).
         """
         wanted = log_hazard_of(max_risk)
-        self.saddle_model = (self.buckets <= SADDLE_GUESS_BUCKETS
-                             and max_risk >= SADDLE_GUESS_RISK)
         guess = self._solve(wanted)
+        if self.buckets <= SADDLE_GUESS_BUCKETS and max_risk >= SADDLE_GUESS_RISK:
+            self.saddle_model = True  # placed from the heuristic's load (``_solve``)
+            guess = self._solve(wanted, guess)
         seen: list[tuple[int, float]] = []
         for step in range(LOAD_STEPS):
             if self.known(guess) is not None or any(abs(guess - k) <= 1 for k, _ in seen):
@@ -304,15 +305,19 @@ class LoadFamily(_EngineFamily):
         (last, miss), previous = seen[-1], seen[-2] if len(seen) > 1 else None
         if previous is None or previous[1] == miss:
             shift = miss + wanted - self._model(last)
-            return self._solve(wanted - shift)
+            return self._solve(wanted - shift, last)
         slope = (miss - previous[1]) / (last - previous[0])
         step = -miss / slope
         low, high = max(1, -(-self.count // self.buckets)), self.count + 1
         return min(max(last + round(step), low), high)
 
-    def _solve(self, wanted: float) -> int:
-        """The smallest k whose float estimate ln(N P(>= k)) is at most ``wanted``."""
+    def _solve(self, wanted: float, near: int | None = None) -> int:
+        """The smallest k whose float estimate (``_model``) is at most ``wanted``, by
+        bisection; from ``near``, the bracket is first found by steps doubling away from it
+        (the float saddle point costs some 30 us an estimate: a few of them, not twenty)."""
         low, high = max(1, -(-self.count // self.buckets)), self.count + 1
+        if near is not None and low < near < high:
+            low, high = self._bracket(wanted, near, low, high)
         for _ in range(high.bit_length() + 2):
             if high - low <= 1:
                 break
@@ -322,6 +327,27 @@ class LoadFamily(_EngineFamily):
             else:
                 low = middle
         return high
+
+    def _bracket(self, wanted: float, near: int, low: int, high: int) -> tuple[int, int]:
+        """(low, high) around ``near`` with the model above ``wanted`` at low (or low the
+        range's bottom) and at most ``wanted`` at high, by doubling steps."""
+        passes = self._model(near) <= wanted
+        step = 1
+        for _ in range(high.bit_length() + 2):
+            if passes:
+                candidate = near - step
+                if candidate <= low:
+                    return low, near
+                if self._model(candidate) > wanted:
+                    return candidate, near
+            else:
+                candidate = near + step
+                if candidate >= high:
+                    return near, high
+                if self._model(candidate) <= wanted:
+                    return near, candidate
+            near, step = candidate, step * 2
+        return low, high
 
     def _model(self, load: int) -> float:
         """The float estimate of ln(-ln P(no bucket reaches ``load``)) the guesses use:
