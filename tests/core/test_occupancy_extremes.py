@@ -260,3 +260,23 @@ def test_coverage_at_exactly_a_uses_each_is_exact_without_a_long_reduction() -> 
                 - count * WORK.log(buckets)) / WORK.log(10)
     assert abs(_log10_of_text(answer.holds.decimal) - expected) < WORK.mpf(10) ** -18
     assert answer.fails.decimal == "1.0000000000000000000e0"
+
+
+@pytest.mark.parametrize(("buckets", "level", "target"), [
+    (52, 499, Fraction(1, 10**9)),  # 126 ms: the heuristic's guess and Newton step missed
+    (686, 37, Fraction(1, 10**100)),  # 138 ms, one answer of them exact at 85 ms
+    (26, 1000, Fraction(1, 10**9)),
+])
+def test_fewest_draws_over_few_buckets_each_used_often_asks_few_answers(
+        buckets: int, level: int, target: Fraction) -> None:
+    # Found by the random search: the float saddle point now places the guess, so the
+    # search settles next to it. The boundary is the search's own proof; here, that the
+    # reported figures straddle the target and that few answers were asked.
+    family = CoverFamily(buckets, level, _top_draws(buckets, level, 1 - target))
+    boundary = certified_boundary(family, 1 - target)
+    assert boundary is not None
+    found = fewest_draws(buckets, level, target)
+    assert found.draws == boundary.index
+    at, fewer = found.at_draws.holds.decimal, found.one_fewer.holds.decimal
+    assert Fraction(at) >= target > Fraction(fewer)
+    assert len(family.found) <= 8

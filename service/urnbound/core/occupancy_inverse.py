@@ -28,6 +28,7 @@ the same under both (``occupancy.same_under_full_target``, ``_EngineFamily.final
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from fractions import Fraction
 
@@ -312,42 +313,10 @@ class LoadFamily(_EngineFamily):
         return min(max(last + round(step), low), high)
 
     def _solve(self, wanted: float, near: int | None = None) -> int:
-        """The smallest k whose float estimate (``_model``) is at most ``wanted``, by
-        bisection; from ``near``, the bracket is first found by steps doubling away from it
-        (the float saddle point costs some 30 us an estimate: a few of them, not twenty)."""
+        """The smallest k whose float estimate (``_model``) is at most ``wanted``
+        (:func:`_first_passing`, from ``near`` when given)."""
         low, high = max(1, -(-self.count // self.buckets)), self.count + 1
-        if near is not None and low < near < high:
-            low, high = self._bracket(wanted, near, low, high)
-        for _ in range(high.bit_length() + 2):
-            if high - low <= 1:
-                break
-            middle = (low + high) // 2
-            if self._model(middle) <= wanted:
-                high = middle
-            else:
-                low = middle
-        return high
-
-    def _bracket(self, wanted: float, near: int, low: int, high: int) -> tuple[int, int]:
-        """(low, high) around ``near`` with the model above ``wanted`` at low (or low the
-        range's bottom) and at most ``wanted`` at high, by doubling steps."""
-        passes = self._model(near) <= wanted
-        step = 1
-        for _ in range(high.bit_length() + 2):
-            if passes:
-                candidate = near - step
-                if candidate <= low:
-                    return low, near
-                if self._model(candidate) > wanted:
-                    return candidate, near
-            else:
-                candidate = near + step
-                if candidate >= high:
-                    return near, high
-                if self._model(candidate) <= wanted:
-                    return near, candidate
-            near, step = candidate, step * 2
-        return low, high
+        return _first_passing(lambda load: self._model(load) <= wanted, low, high, near)
 
     def _model(self, load: int) -> float:
         """The float estimate of ln(-ln P(no bucket reaches ``load``)) the guesses use:
@@ -370,12 +339,13 @@ class LoadFamily(_EngineFamily):
 class CoverFamily(_EngineFamily):
     """P(some bucket used fewer than a times) over draws n = a N .. top (falling in n)."""
 
-    __slots__ = ("level", "top")
+    __slots__ = ("level", "top", "saddle_model")
 
     def __init__(self, buckets: int, level: int, top: int) -> None:
         super().__init__(buckets)
         self.level = level
         self.top = top
+        self.saddle_model = False
 
     def _rule(self, index: int) -> Rule:
         return Rule(AT_LEAST, self.level)
@@ -409,8 +379,41 @@ class CoverFamily(_EngineFamily):
                 high = middle
             else:
                 low = middle
-        self.focus = self._polished(high, _log_of_complement(max_risk))
+        log_target = _log_of_complement(max_risk)
+        if self.buckets <= SADDLE_GUESS_BUCKETS and max_risk >= SADDLE_GUESS_RISK:
+            high = self._saddle_placed(high, log_target)
+        self.focus = self._polished(high, log_target)
         return self.focus
+
+    def _model(self, count: int) -> float | None:
+        """ln P(covered) from the float saddle point (``saddle.float_log_holds``)."""
+        if count < self.lowest:
+            return None
+        return float_log_holds(self.buckets, count, Rule(AT_LEAST, self.level))
+
+    def _saddle_placed(self, guess: int, log_target: float) -> int:
+        """Few buckets: the smallest n whose float saddle point reaches the target, from the
+        heuristic's guess (which misses there, as the loads' does); the guess itself where
+        the floats fail. Sets ``saddle_model`` for the Newton steps' slope."""
+        if self._model(guess) is None:
+            return guess
+        self.saddle_model = True
+
+        def passes(count: int) -> bool:
+            found = self._model(count)
+            return found is not None and found >= log_target
+
+        return _first_passing(passes, self.lowest - 1, self.top, guess)
+
+    def _slope(self, count: int) -> float:
+        """d ln P / dn at n: the float saddle point's difference where it is used, else the
+        heuristic's P(Binomial(n - 1, 1/N) = a - 1) (``_polished``)."""
+        if self.saddle_model:
+            here, following = self._model(count), self._model(count + 1)
+            if here is not None and following is not None and following > here:
+                return following - here
+        return max(math.exp(log_binomial_pmf(count - 1, 1 / self.buckets, self.level - 1)),
+                   1e-300)
 
     def _polished(self, guess: int, log_target: float) -> int:
         """Newton steps on ln P(covered) with the engine's value and the heuristic's slope.
@@ -428,13 +431,46 @@ class CoverFamily(_EngineFamily):
             log10 = found.holds.log10
             if log10 is None:
                 return count
-            slope = max(math.exp(log_binomial_pmf(count - 1, 1 / self.buckets,
-                                                  self.level - 1)), 1e-300)
+            slope = self._slope(count)
             step = (log_target - log10 * math.log(10)) / slope
             if abs(step) < 1 or abs(step) <= 2 * _log_holds_error(found) / slope:
                 return count  # (a step within the answer's own error would only wander)
             count = min(max(count + round(step), self.lowest), self.top)
         return count
+
+
+def _first_passing(passes: Callable[[int], bool], low: int, high: int,
+                   near: int | None = None) -> int:
+    """The smallest index in (low, high] that ``passes`` (monotone; high taken to pass,
+    low not), by bisection; from ``near``, the bracket is first found by steps doubling
+    away from it (a float saddle point costs some 30 us an estimate: a few, not twenty)."""
+    if near is not None and low < near < high:
+        low, high = _bracket(passes, near, low, high)
+    for _ in range(high.bit_length() + 2):
+        if high - low <= 1:
+            break
+        middle = (low + high) // 2
+        if passes(middle):
+            high = middle
+        else:
+            low = middle
+    return high
+
+
+def _bracket(passes: Callable[[int], bool], near: int, low: int,
+             high: int) -> tuple[int, int]:
+    """(low, high) around ``near``, the first failing (or the range's bottom), the second
+    passing (or its top), by doubling steps from ``near``."""
+    passing = passes(near)
+    step = 1
+    for _ in range(high.bit_length() + 2):
+        candidate = near - step if passing else near + step
+        if passing and (candidate <= low or not passes(candidate)):
+            return max(candidate, low), near
+        if not passing and (candidate >= high or passes(candidate)):
+            return near, min(candidate, high)
+        near, step = candidate, step * 2
+    return low, high
 
 
 def _log_of_complement(max_risk: Fraction) -> float:
