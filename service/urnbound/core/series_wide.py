@@ -2,12 +2,12 @@
 
 ``series_risk.RiskBatch`` sums ln(1 - x) as a power series in x = n/N, which is cheap
 while x is small (129 n <= N, few terms at the precision |L| asks for). Past that (n up
-to N, or n below N/129 with L so large that the series would need more than
-``series_pairs.MAX_TERMS`` terms) a curve's count took ``pairwise.collision_risk`` alone:
-some 0.55 ms at 2**8192 values, nearly all of it a logarithm at ~8,300 bits by libmp's
-AGM. Here each such count costs one logarithm by flint's ``arb`` (about 0.09 ms at those
-bits) and a few products, in ball arithmetic, and every L so formed is within the one
-absolute bound d = 2**-LOG_BITS of the true L.
+to N, or for a curve n below N/129 with L so large that the series, at more than 128
+bits, would need more than ``series_pairs.MAX_TERMS`` terms) a count took
+``pairwise.collision_risk`` alone: some 0.55 ms at 2**8192 values, nearly all of it a
+logarithm at ~8,300 bits by libmp's AGM. Here each such count costs one logarithm by
+flint's ``arb`` (about 0.09 ms at those bits) and a few products, in ball arithmetic, and
+every L so formed is within the one absolute bound d = 2**-LOG_BITS of the true L.
 
 Formula (``asymptotic.py``): with M = N - n >= 1,
 
