@@ -280,3 +280,28 @@ def test_fewest_draws_over_few_buckets_each_used_often_asks_few_answers(
     at, fewer = found.at_draws.holds.decimal, found.one_fewer.holds.decimal
     assert Fraction(at) >= target > Fraction(fewer)
     assert len(family.found) <= 8
+
+
+@pytest.mark.parametrize(("kind", "level"), [("at_least", 11), ("below", 3)])
+def test_poisson_tails_at_thousands_of_bits_against_mpmath(kind: str, level: int) -> None:
+    # k-fold collisions among 2^8110 values and 1e2441 identifiers work at some 8,200 bits:
+    # the ratio series took 13 ms a tail there (hundreds of terms), now the incomplete
+    # gamma function (141 -> 20 ms an answer). Reference: mpmath's regularized incomplete
+    # gamma function at 8,600 bits (P(Poisson(y) >= k) = P(k, y), the lower one).
+    from flint import arb
+
+    from urnbound.core import balls
+    from urnbound.core.balls import precision
+
+    ctx = mpmath.MPContext()
+    ctx.prec = 8600
+    with precision(8200):
+        mean = arb(45) / 100 if kind == "at_least" else arb(45)
+        found = (balls.poisson_at_least(level, mean) if kind == "at_least"
+                 else balls.poisson_below(level, mean))
+        text = found.mid().str(2400, radius=False)
+        assert found.rel_accuracy_bits() > 8000
+    y = ctx.mpf(45) / 100 if kind == "at_least" else ctx.mpf(45)
+    expected = (ctx.gammainc(level, 0, y, regularized=True) if kind == "at_least"
+                else ctx.gammainc(level, y, ctx.inf, regularized=True))
+    assert abs(ctx.mpf(text) / expected - 1) < ctx.mpf(10) ** -2390
