@@ -305,3 +305,18 @@ def test_poisson_tails_at_thousands_of_bits_against_mpmath(kind: str, level: int
     expected = (ctx.gammainc(level, 0, y, regularized=True) if kind == "at_least"
                 else ctx.gammainc(level, y, ctx.inf, regularized=True))
     assert abs(ctx.mpf(text) / expected - 1) < ctx.mpf(10) ** -2390
+
+
+def test_the_reciprocal_of_a_chance_past_huge_exponents_is_formed_from_its_digits() -> None:
+    # collisions?bits=7162&count=1e16&multiplicity=249: the chance is about 4e-531189 and
+    # its reciprocal took 49 ms (the 10^531208 of its text's fraction made an integer).
+    # Reference: 1 / (the decimal text) by mpmath at 4,000 bits, within the bound.
+    from urnbound.core.occupancy import reciprocal
+
+    answer = occupancy_risk(2**7162, 10**16, Rule(BELOW, 249))
+    found = reciprocal(answer.fails)
+    assert found is not None
+    expected = 1 / WORK.mpf(answer.fails.decimal)
+    bound = answer.fails.relative_error_bound
+    error = abs(WORK.mpf(found.decimal) / expected - 1)
+    assert error <= bound / (1 - bound) * (1 + 1e-9) + 5e-20
