@@ -10,7 +10,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from urnbound.api.dumping import answer_dumper, finite
+from urnbound.api.dumping import answer_dumper, finite, whole_text
 from urnbound.api.schemas import answer_schema
 from urnbound.core.results import Magnitude
 from urnbound.domain.question import AnswerField, Context, Question
@@ -99,3 +99,11 @@ def test_records_and_lists_of_records_dump_as_the_schema_does() -> None:
               "none": None}
     direct, documented = through_both(question, answer)
     assert direct == documented and list(direct) == list(documented)
+
+
+@settings(max_examples=200)
+@given(st.integers(min_value=0, max_value=8400).flatmap(
+    lambda bits: st.integers(min_value=-(2**bits), max_value=2**bits)))
+def test_whole_numbers_are_written_with_python_s_own_digits(value: int) -> None:
+    # counts up to 2^8192 and past: GMP writes the long ones, the digits must not change
+    assert whole_text(value) == str(value)

@@ -14,6 +14,8 @@ from collections.abc import Callable, Mapping
 from types import MappingProxyType
 from typing import Any
 
+import gmpy2
+
 from urnbound.domain.question import RECORD_KINDS, AnswerField, Question
 
 #: A function from one member's value to its JSON-ready form.
@@ -25,6 +27,18 @@ def _member(source: Any, name: str) -> Any:
     if isinstance(source, Mapping):
         return source.get(name)
     return getattr(source, name, None)
+
+
+#: Above this many bits an integer is written by GMP (Python's int-to-text is quadratic:
+#: 500 counts of 2,460 digits took 31 ms, GMP's some 5 ms); below, Python's is faster.
+_GMP_TEXT_BITS = 1024
+
+
+def whole_text(value: int) -> str:
+    """The decimal text of ``value``, the same digits either way."""
+    if value.bit_length() > _GMP_TEXT_BITS:
+        return str(gmpy2.mpz(value))
+    return str(value)
 
 
 def finite(value: Any) -> float | None:
@@ -70,7 +84,7 @@ def _alphabets(value: Any) -> list[dict[str, Any]]:
 KIND_DUMPERS: Mapping[str, Dumper] = MappingProxyType({
     "probability": _magnitude,
     "magnitude": _magnitude,
-    "whole": lambda value: str(int(value)),
+    "whole": lambda value: whole_text(int(value)),
     "integer": int,
     "number": finite,
     "text": str,
