@@ -167,7 +167,7 @@ def interval_float(value: Real, error: Real) -> float | None:
     >>> interval_float(mp.ratio(1, 3, 100), libmp.from_man_exp(1, -40)) is None
     True
     """
-    if not mp.less(error, mp.ONE):
+    if not (_below_half(error) or mp.less(error, mp.ONE)):
         return None
     quick = _float_far_from_boundary(value, error)
     if quick is not None:
@@ -193,7 +193,7 @@ def _float_far_from_boundary(value: Real, error: Real) -> float | None:
     (and the values past the normal range) to the interval test.
     """
     sign, mantissa, exponent, bits = value
-    if sign or not mantissa or not mp.less(error, _HALF):
+    if sign or not mantissa or not (_below_half(error) or mp.less(error, _HALF)):
         return None
     top = int(exponent + bits)
     if top > 1024 or top < -1070:
@@ -245,6 +245,19 @@ def _below(a: int, a_shift: int, b: int, b_shift: int) -> bool:
 _HALF = libmp.from_man_exp(1, -1)
 
 
+def _below_half(error: Real) -> bool:
+    """A sure sign that 0 < error < 1/2, read off the tuple: ``False`` leaves it to mpf_lt.
+
+    A positive finite m 2**e with m below 2**b (b its bit count) is below 2**(e + b),
+    at most 1/2 when e + b <= -1.
+
+    >>> _below_half(libmp.from_man_exp(3, -3)), _below_half(libmp.from_man_exp(1, -1))
+    (True, False)
+    """
+    sign, mantissa, exponent, bits = error
+    return not sign and bool(mantissa) and exponent + bits <= -1
+
+
 def text_bound(error: Real) -> float:
     """Bound on the relative error of the DECIMAL_DIGITS text of a value ``error`` off.
 
@@ -268,8 +281,21 @@ def bounded_magnitude(value: Real, error: Real, log10: float | None = None) -> M
     if rounded is None:
         return None
     if log10 is None:
-        log10 = log10_value(value)
+        log10 = _log10_of_rounded(value, rounded)
     return Magnitude(rounded, decimal_text(value, log10), log10, text_bound(error))
+
+
+def _log10_of_rounded(value: Real, rounded: float) -> float:
+    """``log10_value(value)``, given ``rounded``, the float nearest to ``value``.
+
+    ``interval_float`` decided ``rounded`` for every real in an interval that holds
+    ``value`` itself, so ``rounded`` is ``to_float(value)``, the float that
+    ``log10_value`` takes the logarithm of within the normal range (away from 1).
+    """
+    binary_exponent = int(value[2] + value[3])
+    if binary_exponent not in (0, 1) and -1020 <= binary_exponent <= 1020:
+        return math.log10(rounded)
+    return log10_value(value)
 
 
 def bounded_magnitude_of_log(value: Real, log_value: Real, error: Real) -> Magnitude | None:
