@@ -320,3 +320,24 @@ def test_the_reciprocal_of_a_chance_past_huge_exponents_is_formed_from_its_digit
     bound = answer.fails.relative_error_bound
     error = abs(WORK.mpf(found.decimal) / expected - 1)
     assert error <= bound / (1 - bound) * (1 + 1e-9) + 5e-20
+
+
+@pytest.mark.parametrize(("bits", "count", "level"), [
+    (7725, 10**2276, 9),  # 63 ms: the saddle point doubled its bits to 25,296 in vain
+    (6848, 10**2060, 109),
+])
+def test_chances_known_to_no_digit_are_refused_without_futile_precision(
+        bits: int, count: int, level: int) -> None:
+    # ln P near -6e1874 with a truncation estimate near 6e1475 at every precision: P has no
+    # digit to give, as in the refusal above. The refusal's figure, 10^(ln P / ln 10),
+    # against the Poisson-limit logarithm of the module docstring (its relative change near
+    # lambda^(k-1)/(k-1)!: far below 1e-50 for both, beside the 6 digits shown).
+    with pytest.raises(DomainError) as refused:
+        occupancy_risk(2**bits, count, Rule(BELOW, level))
+    assert refused.value.field == "count"
+    assert "known to no digit" in refused.value.detail
+    mean = WORK.mpf(count) / 2**bits
+    tail = WORK.gammainc(level, 0, mean, regularized=True)
+    expected = 2**bits * WORK.log1p(-tail) / WORK.log(10)
+    shown = WORK.mpf(refused.value.detail.split("10^(")[1].split(")")[0])
+    assert abs(shown / expected - 1) < WORK.mpf(10) ** -5
