@@ -105,64 +105,65 @@ def pair_breaking_chance(buckets: int, count: int, rule: Rule) -> arb:
     p = arb(1) / buckets
     q = arb(1) / (buckets - 1)
     if rule.kind == BELOW:
-        return _both_at_least(count, p, q, rule.level)
-    return _both_below(count, p, q, rule.level)
+        k = rule.level
+        if 2 * k > count:
+            return arb(0)
+        return _pair_sum(count, p, q, _Walk(start=k, stop=count - k, direction=1, edge=k - 1),
+                         balls.binomial_at_least(count - k, q, k))
+    top = rule.level - 1
+    if count - top < rule.level:  # too few items for Pascal's rule from the edge
+        return _below_direct(count, p, q, rule.level)
+    return _pair_sum(count, p, q, _Walk(start=top, stop=0, direction=-1, edge=top),
+                     balls.binomial_below(count - top, q, rule.level))
 
 
-def _both_at_least(n: int, p: arb, q: arb, k: int) -> arb:
-    """sum_{i=k}^{n-k} P(Bin(n, p) = i) T_i, T_i = P(Bin(n - i, q) >= k).
+@dataclass(frozen=True, slots=True)
+class _Walk:
+    """Where the sum for p2 runs: X_1 = i from ``start`` to ``stop`` by ``direction``
+    (+1 for a cap k: i = k .. n - k; -1 for a floor a: i = a - 1 .. 0), and the inner
+    tail's edge count c (k - 1, or a - 1)."""
 
-    T_{i+1} = T_i - q P(Bin(n - i - 1, q) = k - 1), and that term follows by its ratio.
+    start: int
+    stop: int
+    direction: int
+    edge: int
+
+    def inner_trials(self, count: int, i: int) -> int:
+        """m_i with T_i - T_{i + d} = q P(Binomial(m_i, q) = c): n - i - 1, or n - i."""
+        return count - i - 1 if self.direction > 0 else count - i
+
+
+def _pair_sum(count: int, p: arb, q: arb, walk: _Walk, inner: arb) -> arb:
+    """sum over the walk's i of P(Bin(n, p) = i) T_i, ``inner`` = T_start, the tail of
+    Bin(n - start, q) beyond the rule (module docstring).
+
+    Both rules step the same way: the weight by the binomial ratio P(= i + d) / P(= i),
+    T by Pascal's rule T_{i+d} = T_i - q P(Bin(m_i, q) = c), and that term by its own
+    ratio as m_i moves by -d; once the weights' ratio is below 1 the rest is bounded.
     """
-    if 2 * k > n:
-        return arb(0)
-    weight = balls.binomial_pmf(n, k, p)
-    inner = balls.binomial_at_least(n - k, q, k)
-    step = q * balls.binomial_pmf(n - k - 1, k - 1, q)
-    odds, keep = p / (1 - p), 1 - q
+    n, d, c = count, walk.direction, walk.edge
+    weight = balls.binomial_pmf(n, walk.start, p)
+    trials = walk.inner_trials(n, walk.start)
+    step = q * balls.binomial_pmf(trials, c, q)
+    odds, keep = (p / (1 - p)) if d > 0 else ((1 - p) / p), 1 - q
     total = arb(0)
     floor = arb(2) ** -(ctx.prec + 8)
-    for i in range(k, min(n - k, k + MAX_PAIR_TERMS) + 1):
+    i = walk.start
+    for _ in range(MAX_PAIR_TERMS + 1):
         total += weight * inner
-        if i == n - k:
+        if i == walk.stop:
             return total
-        left = n - i
-        ratio = left * odds / (i + 1)
+        ratio = (odds * (n - i) / (i + 1)) if d > 0 else (odds * i / (n - i + 1))
         rest = _rest_bound(weight * inner, ratio)
         if rest is not None and rest.upper() < (floor * total).lower():
             return balls.widened(total, rest)
         weight *= ratio
         inner -= step
-        step = step * (left - k) / ((left - 1) * keep)
-    raise NoConvergence("the two-bucket tail needs too many terms")
-
-
-def _both_below(n: int, p: arb, q: arb, a: int) -> arb:
-    """sum_{i=0}^{a-1} P(Bin(n, p) = i) T_i, T_i = P(Bin(n - i, q) < a), from i = a - 1 down.
-
-    T_{i-1} = T_i - q P(Bin(n - i, q) = a - 1), and that term follows by its ratio.
-    """
-    top = a - 1
-    if n - top < a:  # too few items for Pascal's rule from the edge (n < 2a - 1)
-        return _below_direct(n, p, q, a)
-    weight = balls.binomial_pmf(n, top, p)
-    inner = balls.binomial_below(n - top, q, a)
-    step = q * balls.binomial_pmf(n - top, top, q)
-    odds, keep = (1 - p) / p, 1 - q
-    total = arb(0)
-    floor = arb(2) ** -(ctx.prec + 8)
-    for i in range(top, max(-1, top - MAX_PAIR_TERMS), -1):
-        total += weight * inner
-        if i == 0:
-            return total
-        used = n - i
-        ratio = i * odds / (used + 1)
-        rest = _rest_bound(weight * inner, ratio)
-        if rest is not None and rest.upper() < (floor * total).lower():
-            return balls.widened(total, rest)
-        weight *= ratio
-        inner -= step
-        step = step * (used + 1) * keep / (used - top + 1)
+        # P(Bin(m - 1, q) = c) / P(Bin(m, q) = c) = (m - c) / (m (1 - q)), and its inverse
+        step = (step * (trials - c) / (trials * keep)) if d > 0 else (
+            step * (trials + 1) * keep / (trials + 1 - c))
+        trials -= d
+        i += d
     raise NoConvergence("the two-bucket tail needs too many terms")
 
 
