@@ -39,7 +39,8 @@ values = st.builds(lambda m, e: libmp.from_man_exp(m, e, 200),
                    st.integers(min_value=1, max_value=2**130),
                    st.integers(min_value=-1300, max_value=1100))
 errors = st.builds(lambda m, e: libmp.from_man_exp(m, e, 53),
-                   st.integers(min_value=1, max_value=2**20), st.integers(min_value=-200, max_value=0))
+                   st.integers(min_value=1, max_value=2**20),
+                   st.integers(min_value=-200, max_value=0))
 
 
 @settings(max_examples=400, deadline=None)
