@@ -2,22 +2,19 @@
 
 Run: ``python tests/bench/hunt_requests.py [seed] [seconds]`` (not collected by pytest;
 default seed 1, 120 s). Draws loads, coverage and k-fold collision questions with sizes
-spread on a log scale over the accepted ranges, asks each of the product app in process
-(answer cache off, access log off), and prints every 5xx with its query, then the 15
-costliest requests by CPU time. Each 5xx it has found became a regression test; the
+spread on a log scale over the accepted ranges and asks them through ``hunting.hunt``
+(the product app in process, answer cache off): every 5xx is printed with its query, then
+the 15 costliest requests by CPU time. Each 5xx it has found became a regression test; the
 costliest go into bench_worst.py and the README's "Cost of a request".
 """
 
 from __future__ import annotations
 
-import heapq
-import logging
 import math
 import random
 import sys
-import time
 
-from urnbound.app import create_app
+from hunting import hunt
 
 TARGETS = ("0.5", "1e-9", "0.999999999", "1e-100", "0.99")
 
@@ -46,32 +43,5 @@ def question(rng: random.Random) -> str:
             f"&multiplicity={spread(3, 256)}")
 
 
-def main() -> int:
-    seed = int(sys.argv[1]) if len(sys.argv) > 1 else 1
-    seconds = float(sys.argv[2]) if len(sys.argv) > 2 else 120.0
-    logging.disable(logging.CRITICAL)  # the 5xx are printed below, without tracebacks
-    client = create_app({"cache_entries": 0, "access_log": False}).test_client()
-    rng = random.Random(seed)
-    costliest: list[tuple[float, str, int]] = []
-    asked, failed = 0, 0
-    end = time.monotonic() + seconds
-    while time.monotonic() < end:
-        path = question(rng)
-        start = time.process_time()
-        response = client.get(path)
-        cost = (time.process_time() - start) * 1e3
-        asked += 1
-        if response.status_code >= 500:
-            failed += 1
-            print(f"{response.status_code} {path}", flush=True)
-        heapq.heappush(costliest, (cost, path, response.status_code))
-        if len(costliest) > 15:
-            heapq.heappop(costliest)
-    print(f"{asked} requests, {failed} failures (5xx)")
-    for cost, path, status in sorted(costliest, reverse=True):
-        print(f"{cost:8.1f} ms  {status}  {path}")
-    return 1 if failed else 0
-
-
 if __name__ == "__main__":
-    sys.exit(main())
+    sys.exit(hunt(question, sys.argv))
