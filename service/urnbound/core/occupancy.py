@@ -384,17 +384,25 @@ def _recurrence_answer(buckets: int, count: int, rule: Rule) -> OccupancyRisk | 
     """The recurrence of ``occupancy_series`` with the fewer steps, in balls."""
     bottom = series.steps_from_bottom(buckets, count, rule)
     top = series.steps_from_top(buckets, count, rule)
-    bits = START_BITS + 32
-    for _ in range(PRECISION_TRIES):
+
+    def attempt(bits: int) -> OccupancyRisk | None:
         if bottom is not None and (top is None or bottom <= top):
             holds, fails = series.from_bottom(buckets, count, rule, bits)
             with precision(bits):
-                answer = _answer_of_balls(buckets, count, rule, holds, fails, RECURRENCE, bits)
-        else:
-            value = series.log_from_top(buckets, count, rule, bits)
-            with precision(bits):
-                answer = _answer_of_balls(buckets, count, rule, value.exp(), -value.expm1(),
-                                          RECURRENCE, bits, log_holds=value)
+                return _answer_of_balls(buckets, count, rule, holds, fails, RECURRENCE, bits)
+        value = series.log_from_top(buckets, count, rule, bits)
+        with precision(bits):
+            return _answer_of_balls(buckets, count, rule, value.exp(), -value.expm1(),
+                                    RECURRENCE, bits, log_holds=value)
+
+    return _at_doubling_bits(attempt)
+
+
+def _at_doubling_bits(attempt: Callable[[int], OccupancyRisk | None]) -> OccupancyRisk | None:
+    """The first reportable answer of ``attempt`` from START_BITS + 32 bits, doubling."""
+    bits = START_BITS + 32
+    for _ in range(PRECISION_TRIES):
+        answer = attempt(bits)
         if answer is not None:
             return answer
         bits *= 2
@@ -417,16 +425,14 @@ def _power_fits(buckets: int, count: int, rule: Rule, steps: int | None) -> bool
 def _power_answer(buckets: int, count: int, rule: Rule) -> OccupancyRisk | None:
     """ln P from [w^m] B**N formed by squaring ball polynomials (``occupancy_series``):
     positive coefficients, nothing cancels, however far the gap m is past N."""
-    bits = START_BITS + 32
-    for _ in range(PRECISION_TRIES):
+
+    def attempt(bits: int) -> OccupancyRisk | None:
         value = series.log_from_top(buckets, count, rule, bits, by_powers=True)
         with precision(bits):
-            answer = _answer_of_balls(buckets, count, rule, value.exp(), -value.expm1(),
-                                      POLYNOMIAL_POWER, bits, log_holds=value)
-        if answer is not None:
-            return answer
-        bits *= 2
-    return None
+            return _answer_of_balls(buckets, count, rule, value.exp(), -value.expm1(),
+                                    POLYNOMIAL_POWER, bits, log_holds=value)
+
+    return _at_doubling_bits(attempt)
 
 
 # --- saddle point -----------------------------------------------------------------------------
